@@ -1,0 +1,236 @@
+"""Turn a schema-valid document into a :class:`~rulecheck.model.Layout` in SI units.
+
+Resolves catalog references (materials, sizes, fixture types), applies the
+project's defaults and overrides, and checks that ids are unique and that
+every reference names something that exists. All problems of a file are
+collected and raised together.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from typing import Any
+
+from rulecheck.catalog import Catalog, project_catalog, size_label
+from rulecheck.errors import ProblemCollector
+from rulecheck.loader import Document
+from rulecheck.model import (
+    Arrester, Device, Fixture, Heater, Layout, Pipe, Point, Supply, Waiver, Wsfu,
+)
+from rulecheck.profiles import arrester_classes, default_profile_id, get_profile, profile_ids
+from rulecheck.reader import Reader
+
+# Range of the shipped water-property table [K] (0.01 °C to 99 °C).
+_T_MIN, _T_MAX = 273.16, 372.15
+_ELEMENT_KINDS = ("supplies", "heaters", "points", "pipes", "fixtures", "arresters", "devices")
+
+
+def _suggest(options: Iterable[str]) -> str:
+    names = sorted(options)
+    shown = ", ".join(names[:12]) + (", …" if len(names) > 12 else "")
+    return f"known: {shown}"
+
+
+class _Builder:
+    def __init__(self, doc: Document, known_rules: set[str], profile_override: str | None) -> None:
+        self.doc = doc
+        self.data: dict[str, Any] = doc.data
+        self.problems = ProblemCollector(doc.path)
+        project = self.data["project"]
+        self.system = project.get("units", "si")
+        self.reader = Reader(doc, self.system, self.problems)
+        self.known_rules = known_rules
+        self.profile_id = profile_override or project.get("profile") or default_profile_id()
+        if self.profile_id not in profile_ids():
+            self.problems.add(doc.where(("project", "profile")),
+                              f"unknown profile '{self.profile_id}'", _suggest(profile_ids()))
+            self.profile_id = default_profile_id()
+        self.profile = get_profile(self.profile_id)
+        self.catalog: Catalog = project_catalog(doc, self.system, self.problems)
+        self.ids: dict[str, tuple[str, tuple[str | int, ...]]] = {}
+
+    def q(self, node: dict[str, Any], path: tuple, key: str, kind: str, default: float | None = None,
+          **limits: bool) -> float:
+        value = self.reader.quantity(node, path, key, kind, default, **limits)
+        return 0.0 if value is None else value
+
+    def items(self, key: str) -> Iterable[tuple[tuple[str, int], dict[str, Any]]]:
+        for i, item in enumerate(self.data.get(key, [])):
+            yield (key, i), item
+
+    def register_ids(self) -> None:
+        for kind in _ELEMENT_KINDS:
+            for path, item in self.items(kind):
+                ident = item["id"]
+                if ident in self.ids:
+                    first = self.doc.where(self.ids[ident][1])
+                    self.problems.add(self.doc.where((*path, "id")),
+                                      f"id '{ident}' is used twice (first at line {first.line})",
+                                      "every id must be unique across the whole file")
+                else:
+                    self.ids[ident] = (kind, path)
+
+    def ref(self, path: tuple, key: str, node: dict[str, Any], kinds: tuple[str, ...]) -> str:
+        """Check that ``node[key]`` names an element of one of ``kinds``."""
+        target = node[key]
+        found = self.ids.get(target)
+        if found is None or found[0] not in kinds:
+            what = " or ".join(k[:-1] if k != "supplies" else "supply" for k in kinds)
+            have = [i for i, (k, _) in self.ids.items() if k in kinds]
+            self.problems.add(self.doc.where((*path, key)),
+                              f"'{key}: {target}' names no {what} in this file", _suggest(have))
+        return str(target)
+
+    def build(self) -> Layout:
+        self.register_ids()
+        project, water = self.data["project"], self.data.get("water", {})
+        layout = Layout(
+            path=self.doc.path, name=project["name"], units=self.system, profile=self.profile_id,
+            cold_temperature=self.temperature(water, "cold_temperature", 288.15),
+            hot_temperature=self.temperature(water, "hot_temperature", 333.15),
+        )
+        layout.positions = {ident: self.doc.where(path) for ident, (_, path) in self.ids.items()}
+        layout.supplies = [self.supply(p, s) for p, s in self.items("supplies")]
+        layout.points = [Point(i["id"], self.q(i, p, "elevation", "length", 0.0), self.doc.where(p))
+                         for p, i in self.items("points")]
+        layout.heaters = [self.heater(p, h) for p, h in self.items("heaters")]
+        layout.pipes = [pipe for p, i in self.items("pipes") if (pipe := self.pipe(p, i))]
+        layout.fixtures = [f for p, i in self.items("fixtures") if (f := self.fixture(p, i))]
+        layout.arresters = [self.arrester(p, a) for p, a in self.items("arresters")]
+        layout.devices = [self.device(p, d) for p, d in self.items("devices")]
+        layout.waivers = [self.waiver(p, w) for p, w in self.items("waivers")]
+        self.problems.raise_if_any()
+        return layout
+
+    def temperature(self, water: dict[str, Any], key: str, default: float) -> float:
+        value = self.reader.quantity(water, ("water",), key, "temperature", default)
+        if value is not None and not _T_MIN <= value <= _T_MAX:
+            self.problems.add(self.doc.where(("water", key)),
+                              f"'{key}' is outside liquid water at atmospheric pressure",
+                              "use a temperature between 0 °C and 99 °C (32 °F to 210 °F)")
+        return default if value is None else value
+
+    def supply(self, path: tuple, item: dict[str, Any]) -> Supply:
+        pressure = item["pressure"]
+        if isinstance(pressure, dict):
+            pp = (*path, "pressure")
+            low = self.q(pressure, pp, "min", "pressure", nonnegative=True)
+            high = self.q(pressure, pp, "max", "pressure", nonnegative=True)
+            if low > high:
+                self.problems.add(self.doc.where(pp), "supply pressure 'min' is above 'max'",
+                                  "swap them")
+        else:
+            low = high = self.q(item, path, "pressure", "pressure", nonnegative=True)
+        return Supply(item["id"], low, high, self.q(item, path, "elevation", "length", 0.0),
+                      self.doc.where(path))
+
+    def heater(self, path: tuple, item: dict[str, Any]) -> Heater:
+        inlet = self.ref(path, "inlet", item, ("points",))
+        outlet = self.ref(path, "outlet", item, ("points",))
+        loss = self.q(item, path, "loss", "pressure", 0.0, nonnegative=True)
+        return Heater(item["id"], inlet, outlet, loss, self.doc.where(path))
+
+    def pipe(self, path: tuple, item: dict[str, Any]) -> Pipe | None:
+        start = self.ref(path, "from", item, ("supplies", "points"))
+        end = self.ref(path, "to", item, ("points",))
+        length = self.q(item, path, "length", "length", positive=True)
+        material = self.catalog.materials.get(item["material"])
+        if material is None:
+            self.problems.add(self.doc.where((*path, "material")),
+                              f"unknown material '{item['material']}'",
+                              _suggest(self.catalog.materials))
+            return None
+        label = size_label(item["size"])
+        if label not in material.sizes:
+            self.problems.add(self.doc.where((*path, "size")),
+                              f"size '{label}' is not in the {material.id} table",
+                              f"sizes: {', '.join(material.sizes)}")
+            return None
+        fittings = item.get("fittings", self.profile.fittings_allowance)
+        if isinstance(fittings, (int, float)) and not isinstance(fittings, bool):
+            fittings_length = float(fittings) * length
+        else:
+            fittings_length = self.q(item, path, "fittings", "length", nonnegative=True)
+        demand = self.reader.quantity(item, path, "demand", "flow", None, nonnegative=True)
+        od, wall = material.sizes[label]
+        return Pipe(item["id"], start, end, material, label, od, wall, length, fittings_length,
+                    item["service"], item.get("anchoring", "throughout"), demand,
+                    self.doc.where(path))
+
+    def fixture(self, path: tuple, item: dict[str, Any]) -> Fixture | None:
+        cold = self.ref(path, "cold", item, ("points",)) if "cold" in item else None
+        hot = self.ref(path, "hot", item, ("points",)) if "hot" in item else None
+        ftype = self.catalog.fixture_types.get(item["type"])
+        if ftype is None:
+            self.problems.add(self.doc.where((*path, "type")),
+                              f"unknown fixture type '{item['type']}'",
+                              _suggest(self.catalog.fixture_types))
+            return None
+        occupancy = item.get("occupancy", "private")
+        base = ftype.wsfu_public if occupancy == "public" else ftype.wsfu_private
+        wsfu = _wsfu_override(item.get("wsfu"), base)
+        valve = item.get("valve", {})
+        vpath = (*path, "valve")
+        return Fixture(
+            id=item["id"], type=ftype, cold=cold, hot=hot, occupancy=occupancy, wsfu=wsfu,
+            flow=self.q(item, path, "flow", "flow", ftype.flow, positive=True),
+            min_pressure=self.q(item, path, "min_pressure", "pressure", ftype.min_pressure,
+                                nonnegative=True),
+            closing=valve.get("closing", ftype.closing),
+            closure_time=self.q(valve, vpath, "closure_time", "time", ftype.closure_time,
+                                nonnegative=True),
+            continuous=bool(item.get("continuous", False)), pos=self.doc.where(path),
+        )
+
+    def arrester(self, path: tuple, item: dict[str, Any]) -> Arrester:
+        at = self.ref(path, "at", item, ("points",))
+        rating = item["rating"]
+        if isinstance(rating, str):
+            rating_class: str | None = rating
+            capacity = arrester_classes()[rating].max_wsfu
+        else:
+            rating_class, capacity = None, float(rating)
+        return Arrester(
+            item["id"], at, rating_class, capacity, item.get("kind", "sealed"),
+            self.reader.quantity(item, path, "gas_volume", "volume", None, positive=True),
+            self.reader.quantity(item, path, "precharge", "pressure", None, nonnegative=True),
+            self.doc.where(path),
+        )
+
+    def device(self, path: tuple, item: dict[str, Any]) -> Device:
+        on = self.ref(path, "on", item, ("pipes",))
+        set_pressure = self.reader.quantity(item, path, "set_pressure", "pressure", None,
+                                            nonnegative=True)
+        if item["kind"] == "pressure-reducing" and "set_pressure" not in item:
+            self.problems.add(self.doc.where(path), "a pressure-reducing device needs "
+                              "'set_pressure'", "add e.g. 'set_pressure: 60 psi'")
+        loss = self.q(item, path, "loss", "pressure", 0.0, nonnegative=True)
+        return Device(item["id"], item["kind"], on, set_pressure, loss, self.doc.where(path))
+
+    def waiver(self, path: tuple, item: dict[str, Any]) -> Waiver:
+        if item["rule"] not in self.known_rules:
+            self.problems.add(self.doc.where((*path, "rule")), f"unknown rule '{item['rule']}'",
+                              _suggest(self.known_rules))
+        if item["element"] not in self.ids:
+            self.problems.add(self.doc.where((*path, "element")),
+                              f"'element: {item['element']}' names nothing in this file",
+                              "name the id of a pipe, point, fixture or other element")
+        return Waiver(item["rule"], item["element"], item["reason"].strip(), self.doc.where(path))
+
+
+def _wsfu_override(value: Any, base: Wsfu) -> Wsfu:
+    """A fixture's own ``wsfu``: a number scales the type's split; a mapping replaces it."""
+    if value is None:
+        return base
+    if isinstance(value, dict):
+        cold, hot = float(value.get("cold", 0.0)), float(value.get("hot", 0.0))
+        return Wsfu(cold, hot, float(value.get("total", cold + hot)))
+    total = float(value)
+    if base.total > 0:  # keep the type's cold/hot proportions [D]
+        return Wsfu(base.cold * total / base.total, base.hot * total / base.total, total)
+    return Wsfu(total, total, total)
+
+
+def build_layout(doc: Document, known_rules: set[str], profile: str | None = None) -> Layout:
+    """Build the typed layout, raising :class:`~rulecheck.errors.InputError` on any problem."""
+    return _Builder(doc, known_rules, profile).build()

@@ -1,0 +1,178 @@
+"""The catalog of pipe materials and fixture types: built-in (``rules/``) plus project-local.
+
+Both use one shape (see ``layout-format.md``). Built-in entries always carry
+explicit units; project-local ones may use bare numbers in the project's units.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import cache
+from typing import Any
+
+from rulecheck.errors import InputError, ProblemCollector
+from rulecheck.loader import Document, JsonPath, parse_text
+from rulecheck.model import FixtureType, Material, Wsfu
+from rulecheck.reader import Reader
+from rulecheck.resources import read_text
+
+MATERIALS_FILE = "materials.yaml"
+FIXTURE_TYPES_FILE = "fixture-types.yaml"
+
+
+@dataclass(frozen=True)
+class Catalog:
+    materials: dict[str, Material]
+    fixture_types: dict[str, FixtureType]
+
+
+def size_label(value: Any) -> str:
+    """Normalise a size label: ``1`` and ``"1"`` are the same size; ``1.5`` reads as ``1-1/2``."""
+    if isinstance(value, float) and value.is_integer():
+        value = int(value)
+    if isinstance(value, float):
+        whole, frac = divmod(value, 1)
+        for den in (2, 4, 8):
+            if abs(frac * den - round(frac * den)) < 1e-9:
+                num = round(frac * den)
+                part = f"{num}/{den}" if num else ""
+                return f"{int(whole)}-{part}" if whole else part
+    return str(value).strip()
+
+
+def read_material(reader: Reader, entry: dict[str, Any], path: JsonPath) -> Material | None:
+    q = reader.quantity
+    modulus = q(entry, path, "modulus", "pressure", positive=True)
+    roughness = q(entry, path, "roughness", "diameter", nonnegative=True)
+    ratings = _table(reader, entry, path, "pressure_rating", "pressure")
+    moduli = _table(reader, entry, path, "modulus_vs_temperature", "modulus")
+    sizes: dict[str, tuple[float, float]] = {}
+    ok = True
+    for label, dims in entry.get("sizes", {}).items():
+        spath = (*path, "sizes", label)
+        od = q(dims, spath, "outside_diameter", "diameter", positive=True)
+        wall = q(dims, spath, "wall", "diameter", positive=True)
+        if od is None or wall is None:
+            ok = False
+            continue
+        if 2 * wall >= od:
+            reader.problems.add(reader.doc.where(spath), f"size {label}: the wall leaves no bore")
+            ok = False
+            continue
+        sizes[size_label(label)] = (od, wall)
+    if modulus is None or roughness is None or ratings is None or moduli is None or not ok:
+        return None
+    return Material(
+        id=entry["id"],
+        name=entry.get("name", entry["id"]),
+        family=entry.get("family", "other"),
+        modulus=modulus,
+        poisson=float(entry["poisson"]),
+        roughness=roughness,
+        pressure_rating=ratings,
+        sizes=sizes,
+        source=entry["source"],
+        modulus_vs_temperature=moduli,
+    )
+
+
+def _table(
+    reader: Reader, entry: dict[str, Any], path: JsonPath, key: str, kind: str
+) -> tuple[tuple[float, float], ...] | None:
+    rows = []
+    value_key = "pressure" if kind == "pressure" else "modulus"
+    for i, row in enumerate(entry.get(key, [])):
+        rpath = (*path, key, i)
+        t = reader.quantity(row, rpath, "temperature", "temperature")
+        v = reader.quantity(row, rpath, value_key, "pressure", positive=True)
+        if t is None or v is None:
+            return None
+        rows.append((t, v))
+    if any(b[0] <= a[0] for a, b in zip(rows, rows[1:], strict=False)):
+        reader.problems.add(
+            reader.doc.where((*path, key)), f"'{key}' rows must rise in temperature"
+        )
+        return None
+    return tuple(rows)
+
+
+def read_fixture_type(reader: Reader, entry: dict[str, Any], path: JsonPath) -> FixtureType | None:
+    q = reader.quantity
+    flow = q(entry, path, "flow", "flow", positive=True)
+    min_pressure = q(entry, path, "min_pressure", "pressure", nonnegative=True)
+    valve = entry.get("valve", {})
+    closure = q(valve, (*path, "valve"), "closure_time", "time", 1.0, nonnegative=True)
+    if flow is None or min_pressure is None or closure is None:
+        return None
+    wsfu = entry["wsfu"]
+    private = wsfu.get("private", wsfu)
+    public = wsfu.get("public", private)
+    sides = tuple(entry.get("sides", ("cold", "hot")))
+    return FixtureType(
+        id=entry["id"],
+        name=entry.get("name", entry["id"]),
+        wsfu_private=_wsfu(private),
+        wsfu_public=_wsfu(public),
+        flow=flow,
+        min_pressure=min_pressure,
+        sides=sides,
+        flushometer=bool(entry.get("flushometer", False)),
+        closing=valve.get("closing", "slow"),
+        closure_time=closure,
+        source=entry["source"],
+    )
+
+
+def _wsfu(values: dict[str, float]) -> Wsfu:
+    cold = float(values.get("cold", 0.0))
+    hot = float(values.get("hot", 0.0))
+    return Wsfu(cold, hot, float(values.get("total", max(cold, hot))))
+
+
+@cache
+def builtin_catalog() -> Catalog:
+    """The catalog shipped in ``rules/`` (a defect in it is a packaging error, not user input)."""
+    materials: dict[str, Material] = {}
+    fixture_types: dict[str, FixtureType] = {}
+    for filename, key, reader_fn, target in (
+        (MATERIALS_FILE, "materials", read_material, materials),
+        (FIXTURE_TYPES_FILE, "fixture_types", read_fixture_type, fixture_types),
+    ):
+        doc = parse_text(read_text("rules", filename), f"rules/{filename}")
+        problems = ProblemCollector(doc.path)
+        reader = Reader(doc, "si", problems)
+        for i, entry in enumerate(doc.data[key]):
+            item = reader_fn(reader, entry, (key, i))
+            if item is not None:
+                target[item.id] = item  # type: ignore[index]
+        try:
+            problems.raise_if_any()
+        except InputError as exc:
+            raise RuntimeError(f"built-in catalog is broken: {exc}") from None
+    return Catalog(materials, fixture_types)
+
+
+def project_catalog(doc: Document, system: str, problems: ProblemCollector) -> Catalog:
+    """Built-in catalog plus the layout's own ``materials`` and ``fixture_types``."""
+    base = builtin_catalog()
+    materials = dict(base.materials)
+    fixture_types = dict(base.fixture_types)
+    reader = Reader(doc, system, problems)
+    for key, reader_fn, target in (
+        ("materials", read_material, materials),
+        ("fixture_types", read_fixture_type, fixture_types),
+    ):
+        for i, entry in enumerate(doc.data.get(key, [])):
+            path = (key, i)
+            builtin = entry["id"] in (base.materials if key == "materials" else base.fixture_types)
+            if builtin and not entry.get("replaces", False):
+                problems.add(
+                    doc.where((*path, "id")),
+                    f"'{entry['id']}' is a built-in {key[:-1].replace('_', ' ')} id",
+                    "choose another id, or add 'replaces: true' to replace the built-in entry",
+                )
+                continue
+            item = reader_fn(reader, entry, path)
+            if item is not None:
+                target[item.id] = item  # type: ignore[index]
+    return Catalog(materials, fixture_types)

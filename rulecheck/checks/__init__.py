@@ -1,0 +1,22 @@
+"""The rule registry: one explicit table from rule id to the function that evaluates it.
+
+To add a rule: put its data in ``rules/*-rules.yaml``, write one function
+``(ctx: RuleContext) -> Iterable[Finding]`` in a module here, and list it below.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Iterable
+
+from rulecheck.checks import housekeeping, hydraulic
+from rulecheck.engine import RuleContext
+from rulecheck.findings import Finding
+
+Check = Callable[[RuleContext], Iterable[Finding]]
+
+REGISTRY: dict[str, Check] = {
+    "velocity-limit": hydraulic.velocity_limit,
+    "static-pressure": hydraulic.static_pressure,
+    "residual-pressure": hydraulic.residual_pressure,
+    "waiver-unused": housekeeping.waiver_unused,
+}

@@ -1,0 +1,110 @@
+"""Steady-flow rules: velocity, static pressure, residual pressure at fixtures."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterator
+
+from rulecheck.engine import RuleContext
+from rulecheck.findings import Finding
+from rulecheck.model import Pipe
+
+
+def _velocity_limit_for(ctx: RuleContext, pipe: Pipe) -> float:
+    if pipe.service == "cold":
+        return ctx.limit("cold", "velocity")
+    if pipe.service == "hot-return":
+        return ctx.limit("hot_return", "velocity")
+    if pipe.material.family == "copper":
+        hot = ctx.analysis.layout.hot_temperature
+        if hot > ctx.limit("hot_copper_threshold", "temperature"):
+            return ctx.limit("hot_copper_above_threshold", "velocity")
+        return ctx.limit("hot_copper", "velocity")
+    return ctx.limit("hot_other", "velocity")
+
+
+def smallest_size_for(pipe: Pipe, flow: float, max_velocity: float) -> str | None:
+    """Smallest size of the pipe's material whose bore keeps ``flow`` at or under the limit."""
+    for label, (od, wall) in sorted(pipe.material.sizes.items(), key=lambda kv: kv[1][0]):
+        if flow / (math.pi * (od - 2 * wall) ** 2 / 4) <= max_velocity:
+            return label
+    return None
+
+
+def velocity_limit(ctx: RuleContext) -> Iterator[Finding]:
+    analysis = ctx.analysis
+    for index, pipe in enumerate(analysis.layout.pipes):
+        velocity = float(analysis.velocity[index])
+        limit = _velocity_limit_for(ctx, pipe)
+        if velocity <= limit:
+            continue
+        flow = float(analysis.flow[index])
+        better = smallest_size_for(pipe, flow, limit)
+        fix = (f"use {pipe.material.id} {better} or larger" if better
+               else f"no {pipe.material.id} size carries this flow under the limit; split the flow")
+        yield ctx.finding(
+            pipe.id,
+            f"{pipe.service} pipe {pipe.id} ({pipe.material.id} {pipe.size}) runs at "
+            f"{ctx.fmt(velocity, 'velocity')} with {ctx.fmt(flow, 'flow')}, over the "
+            f"{ctx.fmt(limit, 'velocity')} limit",
+            measured=velocity, limit=limit, kind="velocity", fix=fix,
+        )
+
+
+def static_pressure(ctx: RuleContext) -> Iterator[Finding]:
+    """Report the first point of each run where static pressure exceeds the limit."""
+    analysis = ctx.analysis
+    limit = ctx.limit("max_static", "pressure")
+    network, layout, static = analysis.network, analysis.layout, analysis.static_max
+    for service in ("cold", "hot"):
+        tree = network.trees[service]
+        # per node: (points over the limit in its subtree, highest pressure, where)
+        over: dict[str, tuple[int, float, str]] = {}
+        for node in reversed(tree.order):
+            own = (1, static[node], node) if static.get(node, 0.0) > limit else (0, -math.inf, "")
+            count, worst, where = over.get(node, (0, -math.inf, ""))
+            merged = (count + own[0], *max((worst, where), own[1:]))
+            over[node] = merged
+            index = tree.parent.get(node)
+            if index is not None:
+                up = over.get(layout.pipes[index].start, (0, -math.inf, ""))
+                over[layout.pipes[index].start] = (up[0] + merged[0], *max(up[1:], merged[1:]))
+        for node in tree.order:
+            if not static.get(node, 0.0) > limit:
+                continue
+            index = tree.parent.get(node)
+            heater = network.heater_at_outlet.get(node)
+            upstream = layout.pipes[index].start if index is not None else (
+                heater.inlet if heater else None)
+            if upstream is not None and static.get(upstream, 0.0) > limit:
+                continue  # reported at the first point over the limit upstream
+            count, worst, where = over[node]
+            extra = (f"; {count - 1} more points downstream also exceed it, highest "
+                     f"{ctx.fmt(worst, 'pressure')} at {where}" if count > 1 else "")
+            feed = f" on pipe {layout.pipes[index].id}" if index is not None else ""
+            yield ctx.finding(
+                node,
+                f"static pressure at {node} reaches {ctx.fmt(static[node], 'pressure')}, over "
+                f"the {ctx.fmt(limit, 'pressure')} limit{extra}",
+                measured=static[node], limit=limit, kind="pressure",
+                fix=f"add a pressure-reducing valve{feed} set to "
+                    f"{ctx.fmt(limit, 'pressure')} or less",
+            )
+
+
+def residual_pressure(ctx: RuleContext) -> Iterator[Finding]:
+    analysis = ctx.analysis
+    for fixture in analysis.layout.fixtures:
+        pressure, side = analysis.fixture_residual(fixture)
+        need = fixture.min_pressure
+        if pressure >= need:
+            continue
+        short = need - pressure
+        yield ctx.finding(
+            fixture.id,
+            f"fixture {fixture.id} ({fixture.type.id}) gets {ctx.fmt(pressure, 'pressure')} on "
+            f"its {side} side at design flow; it needs {ctx.fmt(need, 'pressure')}",
+            measured=pressure, limit=need, kind="pressure",
+            fix=f"find {ctx.fmt(short, 'pressure')} more: larger pipes on the path, a lower "
+                "loss device, or a booster",
+        )

@@ -1,0 +1,76 @@
+"""Input errors with positions, and the process exit codes.
+
+Every problem with what the user wrote becomes an :class:`InputProblem` with the
+file, 1-based line and column, a plain message and what to do about it. The
+CLI prints them and exits with :data:`EXIT_INPUT`; no traceback reaches the user.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+EXIT_OK = 0  #: nothing reached the --fail-on threshold
+EXIT_FINDINGS = 1  #: at least one finding reached the threshold
+EXIT_INPUT = 2  #: input or usage error
+
+MAX_PROBLEMS = 50  #: problems reported per file before the rest are counted only
+
+
+@dataclass(frozen=True, order=True)
+class Position:
+    """A 1-based line and column in a source file."""
+
+    line: int
+    column: int
+
+
+NO_POSITION = Position(1, 1)
+
+
+@dataclass(frozen=True)
+class InputProblem:
+    """One thing wrong with an input file."""
+
+    path: str
+    position: Position
+    message: str
+    hint: str = ""
+
+    def render(self) -> str:
+        text = f"{self.path}:{self.position.line}:{self.position.column}: error: {self.message}"
+        if self.hint:
+            text += f" ({self.hint})"
+        return text
+
+
+class InputError(Exception):
+    """One or more problems that stop a file from being checked."""
+
+    def __init__(self, problems: list[InputProblem], omitted: int = 0) -> None:
+        super().__init__(problems[0].render() if problems else "input error")
+        self.problems = problems
+        self.omitted = omitted
+
+    @classmethod
+    def at(cls, path: str, position: Position, message: str, hint: str = "") -> InputError:
+        return cls([InputProblem(path, position, message, hint)])
+
+
+class ProblemCollector:
+    """Gather problems for one file, then raise them all at once."""
+
+    def __init__(self, path: str) -> None:
+        self.path = path
+        self.problems: list[InputProblem] = []
+        self.omitted = 0
+
+    def add(self, position: Position, message: str, hint: str = "") -> None:
+        if len(self.problems) < MAX_PROBLEMS:
+            self.problems.append(InputProblem(self.path, position, message, hint))
+        else:
+            self.omitted += 1
+
+    def raise_if_any(self) -> None:
+        if self.problems:
+            ordered = sorted(self.problems, key=lambda p: (p.position, p.message))
+            raise InputError(ordered, self.omitted)

@@ -1,0 +1,188 @@
+"""The layout as typed records in SI units (m, s, Pa gauge, m³/s, K).
+
+Built from a validated document by :mod:`rulecheck.build`. Everything downstream
+(analysis, rules, reports) reads these records, never the raw YAML.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+from rulecheck.errors import Position
+
+
+@dataclass(frozen=True)
+class Material:
+    id: str
+    name: str
+    family: str  # copper | steel | plastic | other
+    modulus: float  # Young's modulus of the wall [Pa]
+    poisson: float  # [-]
+    roughness: float  # absolute roughness [m]
+    pressure_rating: tuple[tuple[float, float], ...]  # (temperature [K], allowable [Pa]) rising
+    sizes: dict[str, tuple[float, float]]  # label -> (outside diameter [m], wall [m])
+    source: str
+    modulus_vs_temperature: tuple[tuple[float, float], ...] = ()  # (temperature [K], E [Pa])
+
+    def rating_at(self, temperature: float) -> float:
+        """Allowable working pressure [Pa] at ``temperature`` [K], linear, clamped at the ends."""
+        return _interp(temperature, self.pressure_rating)
+
+    def modulus_at(self, temperature: float) -> float:
+        """Wall modulus [Pa] at ``temperature`` [K] where tabled, else the nominal modulus."""
+        if not self.modulus_vs_temperature:
+            return self.modulus
+        return _interp(temperature, self.modulus_vs_temperature)
+
+
+def _interp(x: float, table: tuple[tuple[float, float], ...]) -> float:
+    if x <= table[0][0]:
+        return table[0][1]
+    for (x0, y0), (x1, y1) in zip(table, table[1:], strict=False):
+        if x <= x1:
+            return y0 + (y1 - y0) * (x - x0) / (x1 - x0)
+    return table[-1][1]
+
+
+@dataclass(frozen=True)
+class Wsfu:
+    cold: float
+    hot: float
+    total: float
+
+
+@dataclass(frozen=True)
+class FixtureType:
+    id: str
+    name: str
+    wsfu_private: Wsfu
+    wsfu_public: Wsfu
+    flow: float  # [m³/s]
+    min_pressure: float  # minimum flow pressure [Pa]
+    sides: tuple[str, ...]
+    flushometer: bool
+    closing: str  # quick | slow
+    closure_time: float  # [s]
+    source: str
+
+
+@dataclass(frozen=True)
+class Supply:
+    id: str
+    pressure_min: float  # static [Pa]
+    pressure_max: float  # static [Pa]
+    elevation: float  # [m]
+    pos: Position
+
+
+@dataclass(frozen=True)
+class Heater:
+    id: str
+    inlet: str
+    outlet: str
+    loss: float  # [Pa]
+    pos: Position
+
+
+@dataclass(frozen=True)
+class Point:
+    id: str
+    elevation: float  # [m]
+    pos: Position
+
+
+@dataclass(frozen=True)
+class Pipe:
+    id: str
+    start: str  # the end nearer the source ("from")
+    end: str  # "to"
+    material: Material
+    size: str
+    outside_diameter: float  # [m]
+    wall: float  # [m]
+    length: float  # developed length [m]
+    fittings_length: float  # extra equivalent length [m]
+    service: str  # cold | hot | hot-return
+    anchoring: str
+    demand: float | None  # design flow override [m³/s]
+    pos: Position
+
+    @property
+    def inner_diameter(self) -> float:
+        return self.outside_diameter - 2.0 * self.wall
+
+    @property
+    def area(self) -> float:
+        return math.pi * self.inner_diameter**2 / 4.0
+
+
+@dataclass(frozen=True)
+class Fixture:
+    id: str
+    type: FixtureType
+    cold: str | None
+    hot: str | None
+    occupancy: str
+    wsfu: Wsfu
+    flow: float  # per side [m³/s]
+    min_pressure: float  # [Pa]
+    closing: str  # quick | slow
+    closure_time: float  # [s]
+    continuous: bool
+    pos: Position
+
+    def side_point(self, side: str) -> str | None:
+        return self.cold if side == "cold" else self.hot
+
+
+@dataclass(frozen=True)
+class Arrester:
+    id: str
+    at: str
+    rating_class: str | None  # AA, A-F, or None when rated in fixture units
+    capacity: float  # fixture units it may serve [WSFU]
+    kind: str  # sealed | air-chamber
+    gas_volume: float | None  # [m³]
+    precharge: float | None  # gauge [Pa]
+    pos: Position
+
+
+@dataclass(frozen=True)
+class Device:
+    id: str
+    kind: str
+    on: str  # pipe id
+    set_pressure: float | None  # [Pa]
+    loss: float  # [Pa]
+    pos: Position
+
+
+@dataclass(frozen=True)
+class Waiver:
+    rule: str
+    element: str
+    reason: str
+    pos: Position
+
+
+@dataclass
+class Layout:
+    path: str
+    name: str
+    units: str  # us | si
+    profile: str
+    cold_temperature: float  # [K]
+    hot_temperature: float  # [K]
+    supplies: list[Supply] = field(default_factory=list)
+    heaters: list[Heater] = field(default_factory=list)
+    points: list[Point] = field(default_factory=list)
+    pipes: list[Pipe] = field(default_factory=list)
+    fixtures: list[Fixture] = field(default_factory=list)
+    arresters: list[Arrester] = field(default_factory=list)
+    devices: list[Device] = field(default_factory=list)
+    waivers: list[Waiver] = field(default_factory=list)
+    positions: dict[str, Position] = field(default_factory=dict)  # element id -> position
+
+    def temperature(self, service: str) -> float:
+        return self.cold_temperature if service == "cold" else self.hot_temperature

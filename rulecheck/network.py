@@ -1,0 +1,183 @@
+"""The pipe network as two trees: cold (rooted at supplies) and hot (rooted at heater outlets).
+
+Checks the topology the format demands: every pipe of a service hangs from a
+root of that service, no loops, no second feeds, no hot water without a heater,
+fixtures connected to points of the right service. ``hot-return`` pipes are
+left out of the trees (they carry no demand and may close loops).
+"""
+
+from __future__ import annotations
+
+from collections import deque
+from dataclasses import dataclass, field
+
+from rulecheck.errors import ProblemCollector
+from rulecheck.model import Heater, Layout, Pipe
+
+SERVICES = ("cold", "hot")
+
+
+@dataclass
+class Tree:
+    """One service's pipes as a rooted forest."""
+
+    service: str
+    roots: list[str]
+    parent: dict[str, int] = field(default_factory=dict)  # node -> index of the pipe feeding it
+    order: list[str] = field(default_factory=list)  # nodes, roots first, parents before children
+    root_of: dict[str, str] = field(default_factory=dict)
+    depth: dict[str, int] = field(default_factory=dict)
+
+
+@dataclass
+class Network:
+    layout: Layout
+    pipes: list[Pipe]
+    elevation: dict[str, float]
+    trees: dict[str, Tree]
+    heater_at_outlet: dict[str, Heater]
+
+    def service_of(self, node: str) -> str | None:
+        for service, tree in self.trees.items():
+            if node in tree.root_of:
+                return service
+        return None
+
+    def path_up(self, node: str, service: str) -> list[int]:
+        """Indices of the pipes from ``node`` up to its root, nearest first."""
+        tree = self.trees[service]
+        path = []
+        while node in tree.parent:
+            index = tree.parent[node]
+            path.append(index)
+            node = self.pipes[index].start
+        return path
+
+
+def build_network(layout: Layout) -> Network:
+    """Arrange the layout's pipes into trees; raise an InputError on bad topology."""
+    problems = ProblemCollector(layout.path)
+    elevation = {p.id: p.elevation for p in layout.points}
+    elevation.update({s.id: s.elevation for s in layout.supplies})
+    heaters = {h.outlet: h for h in layout.heaters}
+    roots = {"cold": [s.id for s in layout.supplies], "hot": [h.outlet for h in layout.heaters]}
+    trees = {svc: Tree(svc, roots[svc]) for svc in SERVICES}
+    children: dict[str, dict[str, list[int]]] = {svc: {} for svc in SERVICES}
+    pipes = layout.pipes
+
+    for index, pipe in enumerate(pipes):
+        if pipe.start == pipe.end:
+            problems.add(pipe.pos, f"pipe {pipe.id} starts and ends at {pipe.start}",
+                         "a pipe must join two different points")
+            continue
+        if pipe.service not in SERVICES:
+            continue
+        tree = trees[pipe.service]
+        if pipe.end in tree.parent:
+            other = pipes[tree.parent[pipe.end]]
+            problems.add(pipe.pos, f"point {pipe.end} is fed by two {pipe.service} pipes, "
+                         f"{other.id} (line {other.pos.line}) and {pipe.id}",
+                         "each point has one feeding pipe; mark recirculation 'hot-return'")
+            continue
+        if pipe.end in tree.roots:
+            problems.add(pipe.pos, f"{pipe.service} pipe {pipe.id} runs into {pipe.end}, "
+                         f"which is a source of the {pipe.service} service",
+                         "check the direction: 'from' is the end nearer the source")
+            continue
+        tree.parent[pipe.end] = index
+        children[pipe.service].setdefault(pipe.start, []).append(index)
+
+    for svc, tree in trees.items():
+        _walk(tree, children[svc], pipes)
+        _report_unreached(tree, pipes, layout, problems)
+    _check_services_meet_properly(trees, layout, problems)
+    _check_heaters_and_fixtures(trees, layout, problems)
+    problems.raise_if_any()
+    return Network(layout, pipes, elevation, trees, heaters)
+
+
+def _walk(tree: Tree, children: dict[str, list[int]], pipes: list[Pipe]) -> None:
+    queue = deque(tree.roots)
+    for root in tree.roots:
+        tree.root_of[root] = root
+        tree.depth[root] = 0
+    while queue:
+        node = queue.popleft()
+        tree.order.append(node)
+        for index in children.get(node, ()):
+            child = pipes[index].end
+            tree.root_of[child] = tree.root_of[node]
+            tree.depth[child] = tree.depth[node] + 1
+            queue.append(child)
+
+
+def _report_unreached(tree: Tree, pipes: list[Pipe], layout: Layout,
+                      problems: ProblemCollector) -> None:
+    reported_loops: set[str] = set()
+    for node, index in sorted(tree.parent.items(), key=lambda kv: kv[1]):
+        if node in tree.root_of:
+            continue
+        pipe = pipes[index]
+        loop = _find_loop(node, tree, pipes)
+        if loop:
+            key = min(loop)
+            if key not in reported_loops:
+                reported_loops.add(key)
+                problems.add(pipe.pos, f"the {tree.service} pipes {' → '.join(loop)} form a loop",
+                             "a supply network must be a tree; mark recirculation 'hot-return'")
+            continue
+        top = pipe.start
+        while top in tree.parent:
+            top = pipes[tree.parent[top]].start
+        if tree.service == "hot":
+            if top in {s.id for s in layout.supplies} or top in tree.root_of:
+                msg = f"hot pipe {pipe.id} is fed from {top}, which is not a heater outlet"
+            else:
+                msg = f"hot pipe {pipe.id} hangs from {top}, which no heater outlet feeds"
+            problems.add(pipe.pos, msg + " (hot water needs a heater upstream)",
+                         "start the hot network at a heater's 'outlet' point")
+        else:
+            problems.add(pipe.pos, f"cold pipe {pipe.id} hangs from {top}, which no supply feeds",
+                         "connect it to a supply, or fix 'from'/'to'")
+
+
+def _find_loop(node: str, tree: Tree, pipes: list[Pipe]) -> list[str]:
+    seen: list[str] = []
+    while node in tree.parent and node not in seen:
+        seen.append(node)
+        node = pipes[tree.parent[node]].start
+    if node in seen:
+        start = seen.index(node)
+        return [pipes[tree.parent[n]].id for n in reversed(seen[start:])]
+    return []
+
+
+def _check_services_meet_properly(trees: dict[str, Tree], layout: Layout,
+                                  problems: ProblemCollector) -> None:
+    cold, hot = trees["cold"].root_of, trees["hot"].root_of
+    for point in layout.points:
+        if point.id in cold and point.id in hot:
+            problems.add(point.pos, f"point {point.id} joins cold and hot pipes",
+                         "cold and hot water meet only through a heater")
+    on_return = {p.start for p in layout.pipes} | {p.end for p in layout.pipes}
+    for point in layout.points:
+        if point.id not in cold and point.id not in hot and point.id not in on_return:
+            problems.add(point.pos, f"point {point.id} is not connected to any pipe",
+                         "connect it or remove it")
+
+
+def _check_heaters_and_fixtures(trees: dict[str, Tree], layout: Layout,
+                                problems: ProblemCollector) -> None:
+    cold, hot = trees["cold"].root_of, trees["hot"].root_of
+    for heater in layout.heaters:
+        if heater.inlet not in cold:
+            problems.add(heater.pos, f"heater {heater.id} inlet {heater.inlet} is not on the "
+                         "cold network", "feed the heater inlet from a cold pipe")
+    for fixture in layout.fixtures:
+        for side, point, members in (("cold", fixture.cold, cold), ("hot", fixture.hot, hot)):
+            if point is not None and point not in members:
+                where = "the hot network" if point in hot else (
+                    "the cold network" if point in cold else "no network")
+                problems.add(fixture.pos, f"fixture {fixture.id}: its {side} side is at {point}, "
+                             f"which is on {where}",
+                             f"connect '{side}' to a point on the {side} network")

@@ -1,0 +1,59 @@
+"""Machine output (``--format json``): SI units, stable key order, same input → same bytes."""
+
+from __future__ import annotations
+
+import json
+from typing import Any
+
+from rulecheck.analysis import Analysis
+from rulecheck.errors import InputError
+from rulecheck.findings import SEVERITIES, Finding, _clean
+from rulecheck.report.text import summary_counts
+
+
+def check_document(results: list[tuple[str, str, list[Finding]]],
+                   errors: list[InputError], hidden: int = 0) -> dict[str, Any]:
+    files: list[dict[str, Any]] = [
+        {"path": path, "profile": profile, "findings": [f.to_dict() for f in findings]}
+        for path, profile, findings in results
+    ]
+    for error in errors:
+        files.append({"path": error.problems[0].path, "errors": [
+            {"line": p.position.line, "column": p.position.column, "message": p.message,
+             "hint": p.hint} for p in error.problems]})
+    every = [f for _, _, findings in results for f in findings]
+    counts = summary_counts(every)
+    summary: dict[str, Any] = {s: counts.get(s, 0) for s in SEVERITIES}
+    summary["waived"] = sum(1 for f in every if f.waived is not None)
+    if hidden:
+        summary["baseline_hidden"] = hidden
+    return {"version": 1, "files": files, "summary": summary}
+
+
+def analysis_document(analysis: Analysis, valves: list[dict[str, Any]] | None = None,
+                      wave_speed: Any = None) -> dict[str, Any]:
+    layout = analysis.layout
+    pipes: dict[str, Any] = {}
+    for i, pipe in enumerate(layout.pipes):
+        entry = {"flow": _clean(float(analysis.flow[i])),
+                 "velocity": _clean(float(analysis.velocity[i])),
+                 "head_loss": _clean(float(analysis.friction_drop[i])),
+                 "wsfu": _clean(float(analysis.wsfu[i]))}
+        if wave_speed is not None:
+            entry["wave_speed"] = _clean(float(wave_speed[i]))
+        pipes[pipe.id] = entry
+    points = {
+        node: {"static_pressure_max": _clean(analysis.static_max[node]),
+               "static_pressure_min": _clean(analysis.static_min[node]),
+               "residual_pressure": _clean(analysis.residual[node])}
+        for node in sorted(analysis.static_max)
+    }
+    document: dict[str, Any] = {"version": 1, "path": layout.path, "pipes": pipes,
+                                "points": points}
+    if valves is not None:
+        document["valves"] = valves
+    return document
+
+
+def dumps(document: dict[str, Any]) -> str:
+    return json.dumps(document, indent=2, ensure_ascii=False) + "\n"

@@ -1,0 +1,28 @@
+"""Locate the data shipped with rulecheck (``rules/`` and ``schemas/``).
+
+In an installed wheel the data sits inside the package under ``_data/``; in a
+source checkout (editable install, or running from the repository) it sits at
+the repository root. Both are tried, wheel first.
+"""
+
+from __future__ import annotations
+
+from importlib.resources import files
+from importlib.resources.abc import Traversable
+from pathlib import Path
+
+
+def data_dir(name: str) -> Traversable:
+    """Return the shipped data folder ``name`` (``"rules"`` or ``"schemas"``)."""
+    packaged = files("rulecheck") / "_data" / name
+    if packaged.is_dir():
+        return packaged
+    checkout = Path(__file__).resolve().parent.parent / name
+    if checkout.is_dir():
+        return checkout
+    raise FileNotFoundError(f"rulecheck data folder {name!r} is missing from this installation")
+
+
+def read_text(folder: str, filename: str) -> str:
+    """Read one shipped data file as UTF-8 text."""
+    return (data_dir(folder) / filename).read_text(encoding="utf-8")

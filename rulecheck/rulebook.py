@@ -1,0 +1,64 @@
+"""Rule data from ``rules/*-rules.yaml``: id, title, severity, limits per profile, source, why.
+
+The data says *what* a rule demands and *where that comes from*; the code in
+:mod:`rulecheck.checks` says *how* it is evaluated.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from functools import cache
+from typing import Any
+
+import yaml
+
+from rulecheck.findings import SEVERITIES
+from rulecheck.resources import data_dir
+from rulecheck.units import to_si
+
+RULE_FILES = ("hydraulic-rules.yaml", "surge-rules.yaml", "housekeeping-rules.yaml")
+
+
+@dataclass(frozen=True)
+class RuleSpec:
+    id: str
+    title: str
+    severity: str
+    source: str
+    rationale: str
+    fix: str
+    formula: str
+    limits: dict[str, dict[str, Any]] = field(default_factory=dict)  # profile -> name -> raw
+    examples: dict[str, str] = field(default_factory=dict)  # failing / passing layout snippets
+
+    def raw_limits(self, profile: str) -> dict[str, Any]:
+        merged = dict(self.limits.get("default", {}))
+        merged.update(self.limits.get(profile, {}))
+        return merged
+
+    def limit(self, profile: str, name: str, kind: str,
+              overrides: dict[str, Any] | None = None) -> float:
+        """The limit ``name`` in SI for ``profile`` (an override, if given, wins)."""
+        raw = (overrides or {}).get(name, self.raw_limits(profile)[name])
+        return to_si(raw, kind, "si")
+
+
+@cache
+def rule_specs() -> dict[str, RuleSpec]:
+    """All rule data, by id, in file order."""
+    specs: dict[str, RuleSpec] = {}
+    folder = data_dir("rules")
+    for filename in RULE_FILES:
+        entry = folder / filename
+        if not entry.is_file():
+            continue
+        for raw in yaml.safe_load(entry.read_text(encoding="utf-8"))["rules"]:
+            if raw["severity"] not in SEVERITIES:
+                raise RuntimeError(f"rule {raw['id']}: unknown severity {raw['severity']!r}")
+            specs[raw["id"]] = RuleSpec(
+                id=raw["id"], title=raw["title"], severity=raw["severity"],
+                source=raw["source"], rationale=raw["rationale"].strip(), fix=raw["fix"].strip(),
+                formula=raw.get("formula", "").strip(), limits=raw.get("limits", {}),
+                examples=raw.get("examples", {}),
+            )
+    return specs

@@ -1,0 +1,149 @@
+"""Quantities: parse ``"12 ft"`` / bare numbers into SI floats, and format SI back.
+
+Units are converted once, here, at the edge. Parsing uses pint's unit registry;
+each distinct unit text is resolved once and cached as an affine map
+(``si = value * scale + offset``), so a 100k-pipe file does not pay pint's
+parsing cost per value.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+from functools import cache
+from typing import Any
+
+import pint
+
+# What each kind of quantity is in SI, and what a bare number means per unit system.
+# Small lengths (diameters, walls, roughness) read bare numbers in inches / millimetres:
+# a bare "0.625" for a tube diameter in feet would surprise every designer.
+_SI_UNIT = {
+    "length": "m", "diameter": "m", "pressure": "Pa", "time": "s", "flow": "m**3/s",
+    "velocity": "m/s", "temperature": "K", "volume": "m**3",
+}
+BARE_UNIT = {
+    "us": {"length": "ft", "diameter": "in", "pressure": "psi", "time": "s", "flow": "gpm",
+           "velocity": "ft/s", "temperature": "degF", "volume": "gal"},
+    "si": {"length": "m", "diameter": "mm", "pressure": "kPa", "time": "s", "flow": "L/s",
+           "velocity": "m/s", "temperature": "degC", "volume": "L"},
+}
+_EXAMPLE = {"length": "12 ft", "diameter": "0.625 in", "pressure": "65 psi", "time": "30 ms",
+            "flow": "2.5 gpm", "velocity": "8 ft/s", "temperature": "140 degF", "volume": "1 L"}
+
+_NUMBER = re.compile(r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+
+
+class QuantityError(ValueError):
+    """A quantity that cannot be used; ``hint`` says what to write instead."""
+
+    def __init__(self, message: str, hint: str = "") -> None:
+        super().__init__(message)
+        self.hint = hint
+
+
+@cache
+def registry() -> pint.UnitRegistry:
+    ureg = pint.UnitRegistry()
+    ureg.define("gallon_per_minute = gallon / minute = gpm")
+    return ureg
+
+
+@cache
+def _affine(unit_text: str, kind: str) -> tuple[float, float]:
+    """(scale, offset) taking a value in ``unit_text`` to SI for ``kind``."""
+    ureg = registry()
+    try:
+        unit = ureg.Unit(unit_text)
+    except (pint.UndefinedUnitError, pint.DefinitionSyntaxError, AttributeError,
+            ValueError, TypeError, SyntaxError, AssertionError) as exc:
+        raise QuantityError(
+            f"unknown unit '{unit_text}'", f"write a {kind} such as '{_EXAMPLE[kind]}'"
+        ) from exc
+    target = ureg.Unit(_SI_UNIT[kind])
+    if unit.dimensionality != target.dimensionality:
+        raise QuantityError(
+            f"'{unit_text}' is not a unit of {kind}", f"write a {kind} such as '{_EXAMPLE[kind]}'"
+        )
+    zero = ureg.Quantity(0.0, unit).to(target).magnitude
+    one = ureg.Quantity(1.0, unit).to(target).magnitude
+    return float(one - zero), float(zero)
+
+
+def to_si(
+    value: Any, kind: str, system: str, *, positive: bool = False, nonnegative: bool = False
+) -> float:
+    """Convert a layout quantity (bare number or ``"number unit"``) to SI.
+
+    Raises :class:`QuantityError` for a wrong kind, an unknown unit, a non-finite
+    number, or a value that breaks ``positive`` / ``nonnegative``.
+    """
+    if isinstance(value, bool) or not isinstance(value, (int, float, str)):
+        raise QuantityError(f"expected a {kind}", f"write e.g. '{_EXAMPLE[kind]}'")
+    if isinstance(value, str):
+        match = _NUMBER.match(value)
+        if not match:
+            raise QuantityError(f"'{value}' is not a {kind}", f"write e.g. '{_EXAMPLE[kind]}'")
+        number = float(match.group(1))
+        unit_text = match.group(2) or BARE_UNIT[system][kind]
+    else:
+        number = float(value)
+        unit_text = BARE_UNIT[system][kind]
+    if not math.isfinite(number):
+        raise QuantityError(f"{kind} must be a finite number", f"write e.g. '{_EXAMPLE[kind]}'")
+    scale, offset = _affine(unit_text, kind)
+    si = number * scale + offset
+    if positive and not si > 0:
+        raise QuantityError(f"{kind} must be greater than zero, got {value!r}")
+    if nonnegative and si < 0:
+        raise QuantityError(f"{kind} must not be negative, got {value!r}")
+    return si
+
+
+# ---- output ---------------------------------------------------------------------------
+
+DISPLAY_UNIT = {
+    "us": {"length": "ft", "pressure": "psi", "flow": "gpm", "velocity": "ft/s", "time": "s",
+           "temperature": "degF", "diameter": "in", "volume": "gal", "speed": "ft/s"},
+    "si": {"length": "m", "pressure": "kPa", "flow": "L/s", "velocity": "m/s", "time": "s",
+           "temperature": "degC", "diameter": "mm", "volume": "L", "speed": "m/s"},
+}
+_LABEL = {"degF": "°F", "degC": "°C"}
+
+
+def from_si(value: float, kind: str, system: str) -> float:
+    """Convert an SI value of ``kind`` to the display unit of ``system``."""
+    kind = "velocity" if kind == "speed" else kind
+    scale, offset = _affine(DISPLAY_UNIT[system][kind], kind)
+    return (value - offset) / scale
+
+
+def unit_label(kind: str, system: str) -> str:
+    unit = DISPLAY_UNIT[system][kind]
+    return _LABEL.get(unit, unit)
+
+
+def fmt(value: float, kind: str, system: str, digits: int = 3) -> str:
+    """Format an SI value in the display unit of ``system``, e.g. ``'72.4 psi'``."""
+    if math.isinf(value):
+        return "∞"
+    shown = from_si(value, kind, system)
+    return f"{_round(shown, digits)} {unit_label(kind, system)}"
+
+
+def _round(x: float, digits: int) -> str:
+    """Round to ``digits`` significant figures, without exponent for everyday sizes."""
+    if x == 0 or not math.isfinite(x):
+        return f"{x:g}"
+    magnitude = math.floor(math.log10(abs(x)))
+    decimals = max(0, digits - 1 - magnitude)
+    return f"{x:.{decimals}f}"
+
+
+@dataclass(frozen=True)
+class Measure:
+    """An SI value with its kind, for findings that carry a measured value and a limit."""
+
+    value: float
+    kind: str
