@@ -10,6 +10,7 @@ root outward with elevation, devices and the heater.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 
@@ -39,6 +40,7 @@ class Analysis:
     static_max: dict[str, float] = field(default_factory=dict)  # per node, gauge [Pa]
     static_min: dict[str, float] = field(default_factory=dict)
     residual: dict[str, float] = field(default_factory=dict)  # flowing pressure [Pa]
+    surge: Any = None  # rulecheck.surge_analysis.SurgeAnalysis, filled in by the pipeline
 
     def water_for(self, service: str) -> WaterProperties:
         return self.water["cold" if service == "cold" else "hot"]

@@ -137,7 +137,10 @@ def cmd_explain(args: argparse.Namespace) -> int:
     if spec is None:
         raise UsageError(f"rulecheck explain: unknown rule '{args.rule}' "
                          f"(known: {', '.join(rule_specs())})")
-    sys.stdout.write(explain_text(spec, args.profile, args.units))
+    from rulecheck.report.worked import worked_example
+
+    sys.stdout.write(explain_text(spec, args.profile, args.units,
+                                  worked_example(spec.id, args.units)))
     return EXIT_OK
 
 

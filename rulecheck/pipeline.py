@@ -15,6 +15,7 @@ from rulecheck.model import Layout
 from rulecheck.network import build_network
 from rulecheck.rulebook import rule_specs
 from rulecheck.schema import validate
+from rulecheck.surge_analysis import screen_surges
 
 
 @dataclass
@@ -36,7 +37,9 @@ def load_layout(path: str | Path, profile: str | None = None) -> Layout:
 
 def analyse_file(path: str | Path, profile: str | None = None) -> Analysis:
     layout = load_layout(path, profile)
-    return analyse(layout, build_network(layout))
+    analysis = analyse(layout, build_network(layout))
+    analysis.surge = screen_surges(analysis)
+    return analysis
 
 
 def check_file(path: str | Path, settings: Settings | None = None,

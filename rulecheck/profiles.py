@@ -75,3 +75,9 @@ def smallest_class_for(wsfu: float) -> str | None:
         if not cls.single_residential_appliance and wsfu <= cls.max_wsfu:
             return name
     return None
+
+
+@cache
+def aa_appliances() -> frozenset[str]:
+    """Fixture types a class AA arrester may serve (one residential appliance)."""
+    return frozenset(yaml.safe_load(read_text("rules", "arresters.yaml"))["aa_appliances"])

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Iterable
 
-from rulecheck.checks import housekeeping, hydraulic
+from rulecheck.checks import housekeeping, hydraulic, surge
 from rulecheck.engine import RuleContext
 from rulecheck.findings import Finding
 
@@ -18,5 +18,11 @@ REGISTRY: dict[str, Check] = {
     "velocity-limit": hydraulic.velocity_limit,
     "static-pressure": hydraulic.static_pressure,
     "residual-pressure": hydraulic.residual_pressure,
+    "closure-time": surge.closure_time,
+    "surge-peak": surge.surge_peak,
+    "column-separation": surge.column_separation,
+    "arrester-required": surge.arrester_required,
+    "arrester-capacity": surge.arrester_capacity,
+    "arrester-kind": surge.arrester_kind,
     "waiver-unused": housekeeping.waiver_unused,
 }

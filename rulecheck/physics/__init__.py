@@ -1,0 +1,1 @@
+"""Pure engineering functions over SI floats and numpy arrays. No I/O, no layout model."""

@@ -1,0 +1,197 @@
+"""Water-hammer screening of every fixture valve, per side (engineering-basis §6–8).
+
+For each fixture side: the path to its service root, the wave speed of each
+pipe, the critical time Σ2L/a, the surge (Joukowsky, or Michaud capped at
+Joukowsky for slower closure), peak and minimum pressure, column separation,
+the minimum safe closure time, and which sealed arrester (if any) protects it.
+Arrester service (which arrester serves which fixtures' WSFU) is worked out
+here too, so the rules only compare numbers.
+"""
+
+from __future__ import annotations
+
+import heapq
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from rulecheck.analysis import Analysis
+from rulecheck.model import Arrester, Fixture
+from rulecheck.physics.surge import (
+    STANDARD_ATMOSPHERE, column_separates, critical_time, min_safe_closure_time, surge_pressure,
+)
+from rulecheck.physics.wavespeed import wave_speed
+
+
+@dataclass
+class ValveEvent:
+    """One valve closing on one side of one fixture."""
+
+    fixture: Fixture
+    side: str  # cold | hot
+    point: str
+    path: list[int]  # pipe indices from the valve to the root, nearest first
+    flow: float  # flow stopped [m³/s]
+    closure_time: float  # [s]
+    critical_time: float  # Σ 2L/a [s]
+    quick: bool  # closes quickly by its type or within the critical time
+    surge: float  # pressure rise [Pa]
+    static_max: float  # [Pa]
+    static_min: float  # [Pa]
+    unprotected_peak: float  # static max + surge [Pa]
+    peak: float  # as credited (capped at the design limit when protected) [Pa]
+    min_pressure: float  # static min − surge [Pa]
+    min_safe_closure: float  # closure time keeping the peak at the design limit [s]
+    lowest_rating: float  # lowest allowable pressure of a pipe on the path [Pa]
+    lowest_rating_pipe: str
+    protected_by: str | None
+    column_separation: bool  # unprotected minimum reaches vapour pressure
+    method: str = "screening"
+    nearby_air_chambers: list[str] = field(default_factory=list)
+
+
+@dataclass
+class SurgeAnalysis:
+    wave_speed: np.ndarray  # per pipe [m/s]
+    events: list[ValveEvent]
+    served: dict[str, list[tuple[Fixture, str, float]]]  # arrester id -> (fixture, side, WSFU)
+    within_reach: dict[tuple[str, str], list[tuple[float, str]]]  # (point, service) -> (dist, arrester)
+
+
+def pipe_wave_speeds(analysis: Analysis) -> np.ndarray:
+    """Korteweg–Halliwell wave speed of each pipe at its service temperature."""
+    layout = analysis.layout
+    speeds = np.zeros(len(layout.pipes))
+    for i, pipe in enumerate(layout.pipes):
+        water = analysis.water_for(pipe.service)
+        speeds[i] = wave_speed(
+            water.bulk_modulus, water.density,
+            pipe.material.modulus_at(layout.temperature(pipe.service)), pipe.material.poisson,
+            pipe.inner_diameter, pipe.wall, pipe.anchoring,
+        )
+    return speeds
+
+
+def _adjacency(analysis: Analysis, service: str) -> dict[str, list[tuple[str, float]]]:
+    tree = analysis.network.trees[service]
+    adjacent: dict[str, list[tuple[str, float]]] = {}
+    for node, index in tree.parent.items():
+        pipe = analysis.layout.pipes[index]
+        adjacent.setdefault(node, []).append((pipe.start, pipe.length))
+        adjacent.setdefault(pipe.start, []).append((node, pipe.length))
+    return adjacent
+
+
+def arresters_within(analysis: Analysis, reach: float) -> dict[tuple[str, str], list]:
+    """For every (point, service): the arresters within ``reach`` of pipe path, nearest first.
+
+    A bounded Dijkstra from each arrester over its service tree (developed lengths).
+    """
+    found: dict[tuple[str, str], list[tuple[float, str]]] = {}
+    network = analysis.network
+    for service in ("cold", "hot"):
+        adjacent = _adjacency(analysis, service)
+        for arrester in analysis.layout.arresters:
+            if network.service_of(arrester.at) != service:
+                continue
+            best = {arrester.at: 0.0}
+            queue = [(0.0, arrester.at)]
+            while queue:
+                dist, node = heapq.heappop(queue)
+                if dist > best.get(node, np.inf):
+                    continue
+                found.setdefault((node, service), []).append((dist, arrester.id))
+                for other, length in adjacent.get(node, ()):
+                    step = dist + length
+                    if step <= reach + 1e-9 and step < best.get(other, np.inf):
+                        best[other] = step
+                        heapq.heappush(queue, (step, other))
+    for entries in found.values():
+        entries.sort()
+    return found
+
+
+def screen_surges(analysis: Analysis) -> SurgeAnalysis:
+    """Screen every fixture valve of the layout, per side."""
+    layout, profile = analysis.layout, analysis.profile
+    speeds = pipe_wave_speeds(analysis)
+    reach = arresters_within(analysis, profile.arrester_distance)
+    arresters = {a.id: a for a in layout.arresters}
+    events: list[ValveEvent] = []
+    served: dict[str, list[tuple[Fixture, str, float]]] = {a.id: [] for a in layout.arresters}
+    for fixture in layout.fixtures:
+        for side in ("cold", "hot"):
+            point = fixture.side_point(side)
+            if point is None:
+                continue
+            nearby = reach.get((point, side), [])
+            sealed = [a for _, a in nearby if arresters[a].kind == "sealed"]
+            protector = sealed[0] if sealed else None
+            if protector is not None:
+                units = fixture.wsfu.cold if side == "cold" else fixture.wsfu.hot
+                served[protector].append((fixture, side, units))
+            event = _screen_one(analysis, speeds, fixture, side, point, protector)
+            event.nearby_air_chambers = [a for _, a in nearby if arresters[a].kind != "sealed"]
+            events.append(event)
+    return SurgeAnalysis(speeds, events, served, reach)
+
+
+def _screen_one(analysis: Analysis, speeds: np.ndarray, fixture: Fixture, side: str,
+                point: str, protector: str | None) -> ValveEvent:
+    layout, profile = analysis.layout, analysis.profile
+    water = analysis.water_for(side)
+    path = analysis.network.path_up(point, side)
+    pipes = [layout.pipes[i] for i in path]
+    lengths = [p.length for p in pipes]
+    a = [float(speeds[i]) for i in path]
+    dv = [fixture.flow / p.area for p in pipes]
+    t_c = critical_time(lengths, a) if path else 0.0
+    t = fixture.closure_time
+    surge = surge_pressure(water.density, lengths, a, dv, t) if path else 0.0
+    smax, smin = analysis.static_max[point], analysis.static_min[point]
+    unprotected = smax + surge
+    minimum = smin - surge
+    temperature = layout.temperature(side)
+    ratings = [(p.material.rating_at(temperature), p.id) for p in pipes]
+    lowest, lowest_pipe = min(ratings) if ratings else (np.inf, "")
+    return ValveEvent(
+        fixture=fixture, side=side, point=point, path=path, flow=fixture.flow,
+        closure_time=t, critical_time=t_c, quick=fixture.closing == "quick" or t <= t_c,
+        surge=surge, static_max=smax, static_min=smin, unprotected_peak=unprotected,
+        peak=min(unprotected, profile.surge_limit) if protector else unprotected,
+        min_pressure=minimum,
+        min_safe_closure=(min_safe_closure_time(water.density, lengths, dv, smax,
+                                                profile.surge_limit) if path else 0.0),
+        lowest_rating=float(lowest), lowest_rating_pipe=lowest_pipe, protected_by=protector,
+        column_separation=protector is None and column_separates(
+            minimum, water.vapour_pressure, STANDARD_ATMOSPHERE),
+    )
+
+
+def wsfu_within(analysis: Analysis, point: str, side: str, reach: float) -> float:
+    """Fixture units (that side) of the fixtures whose point lies within ``reach`` of ``point``."""
+    adjacent = _adjacency(analysis, side)
+    best = {point: 0.0}
+    queue = [(0.0, point)]
+    while queue:
+        dist, node = heapq.heappop(queue)
+        for other, length in adjacent.get(node, ()):
+            if dist + length <= reach + 1e-9 and dist + length < best.get(other, np.inf):
+                best[other] = dist + length
+                heapq.heappush(queue, (dist + length, other))
+    total = 0.0
+    for fixture in analysis.layout.fixtures:
+        if fixture.side_point(side) in best:
+            total += fixture.wsfu.cold if side == "cold" else fixture.wsfu.hot
+    return total
+
+
+def arrester_capacity_ok(arrester: Arrester, served: list[tuple[Fixture, str, float]],
+                         appliance_types: frozenset[str]) -> bool:
+    """Whether the fixtures an arrester serves fit its class (AA: one residential appliance)."""
+    total = sum(units for _, _, units in served)
+    if arrester.rating_class == "AA":
+        fixtures = {f.id for f, _, _ in served}
+        return len(fixtures) <= 1 and all(
+            f.type.id in appliance_types and f.occupancy == "private" for f, _, _ in served)
+    return total <= arrester.capacity + 1e-9
