@@ -84,7 +84,9 @@ class _Builder:
             if not isinstance(key_node, yaml.ScalarNode):
                 self.problems.add(_mark(key_node), "a mapping key must be plain text")
                 continue
-            key = str(self._scalar(key_node))
+            # Keys are names, taken as written: YAML 1.1 would read `on:` (a device's pipe)
+            # as the boolean true.
+            key = str(key_node.value)
             child = (*path, key)
             if key in result:
                 first = self.doc.key_positions[child]

@@ -17,7 +17,8 @@ def _velocity_limit_for(ctx: RuleContext, pipe: Pipe) -> float:
         return ctx.limit("hot_return", "velocity")
     if pipe.material.family == "copper":
         hot = ctx.analysis.layout.hot_temperature
-        if hot > ctx.limit("hot_copper_threshold", "temperature"):
+        # 1 mK of slack: 60 °C and 140 °F are the same temperature, whatever the float noise.
+        if hot > ctx.limit("hot_copper_threshold", "temperature") + 1e-3:
             return ctx.limit("hot_copper_above_threshold", "velocity")
         return ctx.limit("hot_copper", "velocity")
     return ctx.limit("hot_other", "velocity")
@@ -58,17 +59,17 @@ def static_pressure(ctx: RuleContext) -> Iterator[Finding]:
     network, layout, static = analysis.network, analysis.layout, analysis.static_max
     for service in ("cold", "hot"):
         tree = network.trees[service]
-        # per node: (points over the limit in its subtree, highest pressure, where)
-        over: dict[str, tuple[int, float, str]] = {}
+        # per node: (points over the limit strictly downstream, highest pressure there, where)
+        below: dict[str, tuple[int, float, str]] = {}
         for node in reversed(tree.order):
-            own = (1, static[node], node) if static.get(node, 0.0) > limit else (0, -math.inf, "")
-            count, worst, where = over.get(node, (0, -math.inf, ""))
-            merged = (count + own[0], *max((worst, where), own[1:]))
-            over[node] = merged
+            count, worst, where = below.get(node, (0, -math.inf, ""))
+            if static.get(node, 0.0) > limit:
+                count, (worst, where) = count + 1, max((worst, where), (static[node], node))
             index = tree.parent.get(node)
             if index is not None:
-                up = over.get(layout.pipes[index].start, (0, -math.inf, ""))
-                over[layout.pipes[index].start] = (up[0] + merged[0], *max(up[1:], merged[1:]))
+                start = layout.pipes[index].start
+                up = below.get(start, (0, -math.inf, ""))
+                below[start] = (up[0] + count, *max(up[1:], (worst, where)))
         for node in tree.order:
             if not static.get(node, 0.0) > limit:
                 continue
@@ -78,9 +79,9 @@ def static_pressure(ctx: RuleContext) -> Iterator[Finding]:
                 heater.inlet if heater else None)
             if upstream is not None and static.get(upstream, 0.0) > limit:
                 continue  # reported at the first point over the limit upstream
-            count, worst, where = over[node]
-            extra = (f"; {count - 1} more points downstream also exceed it, highest "
-                     f"{ctx.fmt(worst, 'pressure')} at {where}" if count > 1 else "")
+            count, worst, where = below.get(node, (0, -math.inf, ""))
+            extra = (f"; {count} more points downstream also exceed it, highest "
+                     f"{ctx.fmt(worst, 'pressure')} at {where}" if count else "")
             feed = f" on pipe {layout.pipes[index].id}" if index is not None else ""
             yield ctx.finding(
                 node,
