@@ -9,6 +9,7 @@ column.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -104,10 +105,14 @@ class _Builder:
         if node.tag == _STR:
             return node.value
         try:
-            return self.scalars.construct_object(node)
+            value = self.scalars.construct_object(node)
         except yaml.YAMLError:
             self.problems.add(_mark(node), f"cannot read the value {node.value!r}")
             return node.value
+        if isinstance(value, float) and not math.isfinite(value):
+            self.problems.add(_mark(node), f"{node.value!r} is not a finite number",
+                              "write an ordinary number")
+        return value
 
 
 def parse_text(text: str, path: str) -> Document:

@@ -12,7 +12,8 @@ from rulecheck.report.text import summary_counts
 
 
 def check_document(results: list[tuple[str, str, list[Finding]]],
-                   errors: list[InputError], hidden: int = 0) -> dict[str, Any]:
+                   errors: list[InputError], hidden: int | None = None) -> dict[str, Any]:
+    """The check report; ``hidden`` (findings the baseline hid) appears when a baseline was used."""
     files: list[dict[str, Any]] = [
         {"path": path, "profile": profile, "findings": [f.to_dict() for f in findings]}
         for path, profile, findings in results
@@ -25,14 +26,25 @@ def check_document(results: list[tuple[str, str, list[Finding]]],
     counts = summary_counts(every)
     summary: dict[str, Any] = {s: counts.get(s, 0) for s in SEVERITIES}
     summary["waived"] = sum(1 for f in every if f.waived is not None)
-    if hidden:
+    if hidden is not None:
         summary["baseline_hidden"] = hidden
     return {"version": 1, "files": files, "summary": summary}
 
 
-def analysis_document(analysis: Analysis, valves: list[dict[str, Any]] | None = None,
-                      wave_speed: Any = None) -> dict[str, Any]:
+def valve_records(analysis: Analysis) -> list[dict[str, Any]]:
+    """The ``valves`` list of ``analyze --format json`` (SI)."""
+    if analysis.surge is None:
+        return []
+    return [{"fixture": e.fixture.id, "side": e.side, "closure_time": _clean(e.closure_time),
+             "critical_time": _clean(e.critical_time), "surge": _clean(e.surge),
+             "peak_pressure": _clean(e.peak), "min_pressure": _clean(e.min_pressure),
+             "protected_by": e.protected_by, "quick": e.quick, "method": e.method}
+            for e in analysis.surge.events]
+
+
+def analysis_document(analysis: Analysis) -> dict[str, Any]:
     layout = analysis.layout
+    wave_speed = analysis.surge.wave_speed if analysis.surge is not None else None
     pipes: dict[str, Any] = {}
     for i, pipe in enumerate(layout.pipes):
         entry = {"flow": _clean(float(analysis.flow[i])),
@@ -50,8 +62,7 @@ def analysis_document(analysis: Analysis, valves: list[dict[str, Any]] | None = 
     }
     document: dict[str, Any] = {"version": 1, "path": layout.path, "pipes": pipes,
                                 "points": points}
-    if valves is not None:
-        document["valves"] = valves
+    document["valves"] = valve_records(analysis)
     return document
 
 
