@@ -45,5 +45,9 @@ def analyse_file(path: str | Path, profile: str | None = None) -> Analysis:
 def check_file(path: str | Path, settings: Settings | None = None,
                profile: str | None = None) -> FileResult:
     analysis = analyse_file(path, profile)
+    if settings is not None and settings.transient:
+        from rulecheck.transient_setup import apply_transient
+
+        apply_transient(analysis)
     findings = run_rules(analysis, settings)
     return FileResult(analysis.layout.path, analysis.layout.profile, findings, analysis)

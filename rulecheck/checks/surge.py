@@ -63,17 +63,19 @@ def surge_peak(ctx: RuleContext) -> Iterator[Finding]:
                 e.fixture.id,
                 f"valve {_valve(ctx, e)}: surge {ctx.fmt(e.surge, 'pressure')}, peak "
                 f"{ctx.fmt(e.peak, 'pressure')} over the {ctx.fmt(e.lowest_rating, 'pressure')} "
-                f"rating of pipe {e.lowest_rating_pipe} at its temperature",
+                f"rating of pipe {e.lowest_rating_pipe} at its temperature ({e.method})",
                 measured=e.peak, limit=e.lowest_rating, kind="pressure", severity="hazard",
                 method=e.method,
                 fix="protect the valve with a sealed arrester and use pipe rated for the peak",
             )
-        elif e.protected_by is None and e.peak > limit:
+        elif (e.protected_by is None or e.method != "screening") and e.peak > limit:
             yield ctx.finding(
                 e.fixture.id,
                 f"valve {_valve(ctx, e)}: surge {ctx.fmt(e.surge, 'pressure')}, peak "
-                f"{ctx.fmt(e.peak, 'pressure')} over the {ctx.fmt(limit, 'pressure')} limit, "
-                f"no sealed arrester within {ctx.fmt(ctx.analysis.profile.arrester_distance, 'length')}",
+                f"{ctx.fmt(e.peak, 'pressure')} over the {ctx.fmt(limit, 'pressure')} limit "
+                f"({e.method}), " + (f"with arrester {e.protected_by}" if e.protected_by else
+                f"no sealed arrester within "
+                f"{ctx.fmt(ctx.analysis.profile.arrester_distance, 'length')}"),
                 measured=e.peak, limit=limit, kind="pressure", method=e.method,
                 fix=_suggestion(ctx, e),
             )
@@ -88,8 +90,8 @@ def column_separation(ctx: RuleContext) -> Iterator[Finding]:
         yield ctx.finding(
             e.fixture.id,
             f"valve {_valve(ctx, e)}: the pressure wave drops {e.point} to "
-            f"{ctx.fmt(e.min_pressure, 'pressure')} (gauge), down to vapour pressure: the column "
-            "separates and its collapse can exceed the Joukowsky peak",
+            f"{ctx.fmt(e.min_pressure, 'pressure')} (gauge, {e.method}), down to vapour "
+            "pressure: the column separates and its collapse can exceed the Joukowsky peak",
             measured=e.min_pressure, limit=vapour_gauge, kind="pressure", method=e.method,
             fix=_suggestion(ctx, e),
         )

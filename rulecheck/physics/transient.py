@@ -158,7 +158,9 @@ def _validate(net: TransientNetwork) -> None:
         raise ValueError("need density > 0 and atmospheric > vapour pressure >= 0")
 
 
-def _steady(net: TransientNetwork, grid: Grid, arrays: dict[str, np.ndarray]) -> tuple:
+def _steady(
+    net: TransientNetwork, grid: Grid, arrays: dict[str, np.ndarray]
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, float, float]:
     """Steady node heads, section heads and flows, valve flow and head margin."""
     up, dn, flow = arrays["up"], arrays["dn"], arrays["flow"]
     g = STANDARD_GRAVITY

@@ -21,7 +21,7 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -63,6 +63,10 @@ def opening_schedule(
     --------
     >>> opening_schedule(np.array([0.0, 0.5, 1.0, 2.0]), 1.0, None).tolist()
     [1.0, 0.5, 0.0, 0.0]
+
+    References
+    ----------
+    1. engineering-basis §10: closing valve, linear in time by default.
     """
     if closure_time < 0:
         raise ValueError("closure_time must be >= 0")
@@ -113,6 +117,11 @@ def valve_node_head(sc: float, sb: float, cv: float, z: float) -> tuple[float, f
 
     >>> valve_node_head(12.0, 1.0, 1.0, 10.0)
     (11.0, 1.0)
+
+    References
+    ----------
+    1. Wylie & Streeter (1993), valve at the downstream end of a pipe: orifice
+       equation with tau [S: engineering-basis §10; M for the section].
     """
     d = sc / sb - z
     if cv <= 0.0 or d <= 0.0:
@@ -130,7 +139,13 @@ class ArresterState:
     the stop the arrester takes no flow until the liquid pressure exceeds the
     precharge. Off the stop, continuity with the trapezoidal rule,
     V - V_old = -dt/2 (Q_a + Q_a_old) (Q_a = liquid flow into the arrester), and
-    the node head from the gas pressure, solved by Newton on V.
+    the node head from the gas pressure, solved by Newton on V:
+
+        S_C - S_B H(V) - Q_valve(H(V)) + 2 (V - V_old) / dt + Q_a_old = 0,
+        H(V) = z + (K V^-n - p_atm) / (rho g)
+
+    References: Wylie & Streeter (1993), air chamber boundary (polytropic gas)
+    [S: engineering-basis §10; M for the section]; n = 1.2 [CP].
     """
 
     node: int
@@ -141,7 +156,6 @@ class ArresterState:
     volume: float  # [m^3]
     flow: float = 0.0  # liquid flow into the arrester at the last step [m^3/s]
     on_stop: bool = False
-    iterations: int = field(default=0)
 
     def head_of(self, volume: float, rho_g: float, p_atm: float) -> float:
         """Node head [m] for a gas volume [m^3]."""
@@ -167,10 +181,8 @@ class ArresterState:
             self.flow = 0.0
         v_old, q_old, n, k = self.volume, self.flow, self.exponent, self.constant
         v = v_old
-        self.iterations = 0
         for _ in range(60):
-            self.iterations += 1
-            h = self.z + (k * v**-n - p_atm) / rho_g
+            h = self.head_of(v, rho_g, p_atm)
             dh_dv = -n * k * v ** (-n - 1.0) / rho_g
             qv, dqv = 0.0, 0.0
             if cv > 0.0 and h > zv:
@@ -193,7 +205,7 @@ class ArresterState:
             return h
         self.flow = -2.0 * (v - v_old) / dt - q_old
         self.volume = v
-        return self.z + (k * v**-n - p_atm) / rho_g
+        return self.head_of(v, rho_g, p_atm)
 
 
 class CavityTracker:

@@ -118,6 +118,10 @@ def reaches_for_time_step(travel_times: Sequence[float], dt: float) -> tuple[np.
     >>> n, adj = reaches_for_time_step([0.1, 0.25], 0.05)
     >>> n.tolist(), adj
     ([2, 5], 0.0)
+
+    References
+    ----------
+    1. Wylie & Streeter (1993), wave-speed adjustment [S: engineering-basis §10].
     """
     if not dt > 0:
         raise ValueError("dt must be > 0")
@@ -315,15 +319,17 @@ def steady_node_heads(
     Parameters
     ----------
     n_nodes : int
-        Number of nodes.
-    upstream, downstream : ndarray
-        Node indices of each pipe.
+        Number of nodes [-].
+    upstream : ndarray
+        Upstream node index of each pipe [-].
+    downstream : ndarray
+        Downstream node index of each pipe [-].
     loss_coefficient : ndarray
         r of each pipe [s^2/m^5].
     flow : ndarray
         Steady flow of each pipe, positive upstream -> downstream [m^3/s].
     fixed_heads : dict
-        Node -> piezometric head [m].
+        Node index -> piezometric head [m].
 
     Returns
     -------

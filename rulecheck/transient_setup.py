@@ -1,0 +1,178 @@
+"""Turn one valve event of a layout into a transient network, run it, read the result back.
+
+The service tree that holds the valve becomes the MOC network: its root (supply or
+heater outlet) is a constant head at the root's static minimum, every other fixture
+is a closed dead end, and only the closing valve flows at the start. Sealed arresters
+on that tree are gas volumes: their own ``gas_volume``/``precharge`` when given,
+otherwise an equivalent volume sized by the energy method (below) and flagged.
+``check --transient`` simulates a path model (the valve's path to the root plus the
+pipes to nearby arresters; other branches and their partial reflections left out [D])
+to keep whole-building runs fast; ``simulate`` runs the whole service tree.
+The peak is shifted by (static max − static min) at the valve: exact superposition
+of the static head for the linear equations, an approximation once cavities form [D].
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass
+
+from rulecheck.analysis import G, Analysis
+from rulecheck.physics.demand import demand_flow
+from rulecheck.physics.friction import friction_factor, reynolds_number
+from rulecheck.physics.surge import STANDARD_ATMOSPHERE
+from rulecheck.physics.transient import (
+    ClosingValve, GasArrester, TransientNetwork, TransientPipe, TransientResult, simulate,
+)
+from rulecheck.surge_analysis import ValveEvent
+
+
+@dataclass
+class EventRun:
+    event: ValveEvent
+    result: TransientResult
+    peak: float  # at the valve, static max basis [Pa gauge]
+    minimum: float  # at the valve, static min basis [Pa gauge]
+    path_max: dict[str, float]  # per path pipe [Pa gauge]
+    path_min: dict[str, float]
+    sized_arresters: dict[str, float]  # arrester id -> equivalent gas volume [m³] we sized
+
+
+def equivalent_gas_volume(energy: float, p_static_abs: float, p_limit_abs: float,
+                          n: float) -> float:
+    """Energy method [D]: the gas volume at ``p_static_abs`` that absorbs ``energy`` [J] in a
+    polytropic compression (exponent ``n``) ending at ``p_limit_abs``.
+
+    W = p1·V1·((p2/p1)^((n−1)/n) − 1)/(n − 1)  ⇒  V1 = E·(n − 1) / (p1·((p2/p1)^((n−1)/n) − 1)).
+    """
+    ratio = (p_limit_abs / p_static_abs) ** ((n - 1) / n) - 1
+    return energy * (n - 1) / (p_static_abs * ratio)
+
+
+# Design column for an arrester class when the layout gives no gas volume [M: PDI-WH 201
+# rates arresters on a column moving at 10 ft/s; the 50 ft column length is our assumption
+# [D]; verify against the manufacturer's data and give gas_volume/precharge instead].
+DESIGN_VELOCITY = 3.048  # 10 ft/s [m/s]
+DESIGN_LENGTH = 15.24  # 50 ft [m]
+
+
+def class_energy(capacity_wsfu: float) -> float:
+    """Kinetic energy [J] of the design column of an arrester class: ½·ρ·Q·L·v (ρ = 1000)."""
+    flow = float(demand_flow(capacity_wsfu, False))
+    return 0.5 * 1000.0 * flow * DESIGN_LENGTH * DESIGN_VELOCITY
+
+
+def _path_nodes(analysis: Analysis, event: ValveEvent) -> set[str]:
+    """The valve's path to the root plus the pipes that join nearby arresters to it."""
+    layout, tree = analysis.layout, analysis.network.trees[event.side]
+    keep = {event.point} | {layout.pipes[k].start for k in event.path}
+    nearby = {a for _, a in analysis.surge.within_reach.get((event.point, event.side), [])}
+    for arrester in layout.arresters:
+        if arrester.id not in nearby:
+            continue
+        node, chain = arrester.at, []
+        while node not in keep and node in tree.parent:
+            chain.append(node)
+            node = layout.pipes[tree.parent[node]].start
+        if node in keep:
+            keep.update(chain)
+    return keep
+
+
+def build_event_network(analysis: Analysis, event: ValveEvent, whole_tree: bool = True,
+                        ) -> tuple[TransientNetwork, dict[str, float], list[str]]:
+    """The MOC network of the event's service tree (or of its path model); also the
+    arrester volumes we sized and the layout pipe id of each transient pipe."""
+    layout, network = analysis.layout, analysis.network
+    tree = network.trees[event.side]
+    root = tree.root_of[event.point]
+    wanted = None if whole_tree else _path_nodes(analysis, event)
+    nodes = [n for n in tree.order if tree.root_of.get(n) == root
+             and (wanted is None or n in wanted)]
+    index = {n: i for i, n in enumerate(nodes)}
+    water = analysis.water_for(event.side)
+    on_path = set(event.path)
+    pipes, ids = [], []
+    for node in nodes[1:]:
+        k = tree.parent[node]
+        pipe = layout.pipes[k]
+        velocity = event.flow / pipe.area
+        re = reynolds_number(velocity, pipe.inner_diameter, water.density, water.viscosity)
+        f = friction_factor(re, pipe.material.roughness / pipe.inner_diameter)
+        # physical length for the waves; the fittings allowance goes into the friction [D]
+        pipes.append(TransientPipe(
+            index[pipe.start], index[node], pipe.length, pipe.inner_diameter,
+            float(analysis.surge.wave_speed[k]),
+            float(f) * (pipe.length + pipe.fittings_length) / pipe.length,
+            event.flow if k in on_path else 0.0))
+        ids.append(pipe.id)
+    elevation = tuple(network.elevation[n] for n in nodes)
+    head = analysis.static_min[root] / (water.density * G) + network.elevation[root]
+    sized: dict[str, float] = {}
+    gas = []
+    energy = 0.5 * water.density * sum(layout.pipes[k].area * layout.pipes[k].length
+                                       * (event.flow / layout.pipes[k].area) ** 2
+                                       for k in event.path)
+    for arrester in layout.arresters:
+        if arrester.kind != "sealed" or arrester.at not in index:
+            continue
+        p_static = analysis.static_min[arrester.at] + STANDARD_ATMOSPHERE
+        precharge = (arrester.precharge + STANDARD_ATMOSPHERE if arrester.precharge is not None
+                     else p_static)
+        volume = arrester.gas_volume
+        if volume is None:
+            volume = equivalent_gas_volume(
+                max(energy, class_energy(arrester.capacity)), p_static, analysis.profile.surge_limit + STANDARD_ATMOSPHERE,
+                analysis.profile.polytropic_exponent)
+            sized[arrester.id] = volume
+        gas.append(GasArrester(index[arrester.at], volume, precharge,
+                               analysis.profile.polytropic_exponent))
+    net = TransientNetwork(
+        n_nodes=len(nodes), pipes=tuple(pipes), elevation=elevation,
+        fixed_heads={index[root]: head},
+        valve=ClosingValve(index[event.point], event.closure_time),
+        arresters=tuple(gas), density=water.density, vapour_pressure=water.vapour_pressure,
+        atmospheric=STANDARD_ATMOSPHERE)
+    return net, sized, ids
+
+
+def default_duration(event: ValveEvent) -> float:
+    """Closure plus ten round trips of the path, at least 0.1 s [D]."""
+    return max(0.1, event.closure_time + 10 * max(event.critical_time, 1e-3))
+
+
+def run_event(analysis: Analysis, event: ValveEvent, duration: float | None = None,
+              progress: Callable[[float], None] | None = None,
+              whole_tree: bool = True) -> EventRun:
+    net, sized, ids = build_event_network(analysis, event, whole_tree)
+    shortest = min(p.length / p.wave_speed for p in net.pipes)
+    # resolve both the closure and the path's round trip in at least ~10 steps [D]
+    wanted = min(shortest, max(event.critical_time, 1e-4) / 20,
+                 event.closure_time / 10 if event.closure_time > 0 else shortest)
+    dt = shortest / math.ceil(shortest / wanted - 1e-9)
+    result = simulate(net, duration or default_duration(event), dt=dt, progress=progress)
+    shift = event.static_max - event.static_min
+    path_ids = {analysis.layout.pipes[k].id for k in event.path}
+    path_max = {pid: float(result.pipe_max_pressure[i]) + shift
+                for i, pid in enumerate(ids) if pid in path_ids}
+    path_min = {pid: float(result.pipe_min_pressure[i])
+                for i, pid in enumerate(ids) if pid in path_ids}
+    peak = float(result.peak_pressure) + shift
+    return EventRun(event, result, peak, float(result.min_pressure), path_max, path_min, sized)
+
+
+def apply_transient(analysis: Analysis, quick_only: bool = True) -> None:
+    """Replace the screening peak/min of each (quick) valve event with the simulated ones."""
+    for event in analysis.surge.events:
+        if quick_only and not event.quick:
+            continue
+        run = run_event(analysis, event, whole_tree=False)
+        event.method = "transient (path model)"
+        event.unprotected_peak = run.peak
+        event.peak = run.peak
+        event.surge = run.peak - event.static_max
+        event.min_pressure = run.minimum
+        event.column_separation = run.result.cavitation
+        if not math.isfinite(event.peak):  # pragma: no cover - solver guards this
+            raise RuntimeError(f"transient run for {event.fixture.id} diverged")
