@@ -7,12 +7,17 @@
 from __future__ import annotations
 
 import argparse
+import os
 import sys
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
 from pathlib import Path
+from typing import TextIO
 
 from rich.console import Console
 
 from rulecheck import __version__
+from rulecheck.config import FAIL_ON, load_config
 from rulecheck.engine import Settings
 from rulecheck.errors import EXIT_FINDINGS, EXIT_INPUT, EXIT_OK, InputError
 from rulecheck.findings import SEVERITY_RANK, Finding
@@ -23,7 +28,6 @@ from rulecheck.report.json_report import analysis_document, check_document, dump
 from rulecheck.report.text import render_check
 from rulecheck.rulebook import rule_specs
 
-FAIL_ON = ("hazard", "violation", "caution", "advisory", "never")
 LAYOUT_SUFFIXES = (".yaml", ".yml")
 
 
@@ -44,17 +48,38 @@ def build_parser() -> argparse.ArgumentParser:
 
     check = sub.add_parser("check", help="check layouts against the design rules")
     check.add_argument("paths", nargs="+", metavar="PATH", help="layout files or folders")
-    check.add_argument("--format", choices=("text", "json"), default="text")
-    check.add_argument("--fail-on", choices=FAIL_ON, default="violation",
-                       help="lowest severity that makes the exit status 1 (default: violation)")
+    check.add_argument("--format", choices=("text", "json", "sarif"), default="text")
+    check.add_argument("--output", metavar="FILE", help="write the report to FILE, not stdout")
+    check.add_argument("--fail-on", choices=FAIL_ON, default=None,
+                       help="lowest severity that makes the exit status 1 "
+                            "(default: fail-on in rulecheck.toml, else violation)")
+    check.add_argument("--config", metavar="FILE",
+                       help="configuration file (default: the nearest rulecheck.toml upwards)")
+    baseline = check.add_mutually_exclusive_group()
+    baseline.add_argument("--baseline", metavar="FILE",
+                          help="report only findings not recorded in this baseline")
+    baseline.add_argument("--write-baseline", metavar="FILE",
+                          help="record the current findings as the baseline in FILE")
     check.add_argument("--profile", choices=profile_ids(), help="override the layout's profile")
     check.add_argument("--no-waivers", action="store_true",
                        help="audit mode: ignore the layouts' waivers")
+    check.add_argument("--transient", action="store_true",
+                       help="simulate every quick-closing valve (method of characteristics) "
+                            "and judge surge peak and column separation on the simulation")
 
     analyze = sub.add_parser("analyze", help="print flows, velocities and pressures")
     analyze.add_argument("path", metavar="FILE")
     analyze.add_argument("--format", choices=("text", "json"), default="text")
     analyze.add_argument("--profile", choices=profile_ids())
+
+    simulate = sub.add_parser("simulate", help="transient simulation of one valve closing")
+    simulate.add_argument("path", metavar="FILE")
+    simulate.add_argument("--valve", required=True, metavar="FIXTURE[:side]",
+                          help="the fixture whose valve closes, and its side (cold or hot)")
+    simulate.add_argument("--duration", type=float, metavar="S",
+                          help="simulated time in seconds (default: closure + 10 round trips)")
+    simulate.add_argument("--format", choices=("text", "json", "csv"), default="text")
+    simulate.add_argument("--profile", choices=profile_ids())
 
     sub.add_parser("rules", help="list the rules")
     explain = sub.add_parser("explain", help="why a rule exists, its formula, limits and source")
@@ -65,14 +90,14 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
-def collect_paths(raw: list[str]) -> list[Path]:
-    """Expand folders into the layout files below them (sorted); keep files as given."""
+def collect_paths(raw: list[str], skip: Callable[[Path], bool] | None = None) -> list[Path]:
+    """Expand folders into the layout files below them (sorted, ``skip`` left out); keep files."""
     found: list[Path] = []
     for item in raw:
         path = Path(item)
         if path.is_dir():
             found.extend(sorted(p for p in path.rglob("*") if p.suffix in LAYOUT_SUFFIXES
-                                and p.is_file()))
+                                and p.is_file() and not (skip and skip(p))))
         else:
             found.append(path)
     return found
@@ -92,32 +117,85 @@ def reaches(finding: Finding, fail_on: str) -> bool:
 
 
 def cmd_check(args: argparse.Namespace, console: Console) -> int:
+    from rulecheck import baseline
     from rulecheck.pipeline import check_file
 
-    settings = Settings(honour_waivers=not args.no_waivers)
+    config = load_config(args.config)
+    settings = config.apply(Settings(honour_waivers=not args.no_waivers,
+                                     transient=args.transient))
+    fail_on = args.fail_on or config.fail_on or "violation"
+    known = baseline.read_baseline(args.baseline) if args.baseline else None
     results: list[tuple[str, str, list[Finding]]] = []
     errors: list[InputError] = []
-    paths = collect_paths(args.paths)
+    paths = collect_paths(args.paths, config.excluded)
     if not paths:
         raise UsageError("rulecheck check: no layout files (*.yaml, *.yml) found")
+    for target in (args.output, args.write_baseline):
+        refuse_overwrite(target, paths)
     for path in paths:
         try:
-            result = check_file(path, settings, args.profile)
+            result = check_file(path, settings, args.profile or config.profile_for(path))
         except InputError as exc:
             errors.append(exc)
             if args.format == "text":
                 print_input_error(exc)
             continue
         results.append((result.path, result.profile, result.findings))
-    if args.format == "json":
-        sys.stdout.write(dumps(check_document(results, errors)))
-    else:
-        render_check(console, [(p, f) for p, _, f in results],
-                     [e.problems[0].path for e in errors])
+    if args.write_baseline and errors:
+        print("rulecheck: baseline not written: fix the input errors first", file=sys.stderr)
+    elif args.write_baseline:
+        known = baseline.write_baseline(args.write_baseline, results)
+        print(f"rulecheck: wrote the baseline {args.write_baseline} "
+              f"({sum(known.values())} findings)", file=sys.stderr)
+    hidden = None
+    if known is not None:
+        results, hidden = baseline.apply_baseline(results, known)
+    write_report(args, console, results, errors, hidden)
     if errors:
         return EXIT_INPUT
-    failing = any(reaches(f, args.fail_on) for _, _, fs in results for f in fs)
+    failing = any(reaches(f, fail_on) for _, _, fs in results for f in fs)
     return EXIT_FINDINGS if failing else EXIT_OK
+
+
+def refuse_overwrite(target: str | None, inputs: list[Path]) -> None:
+    """Refuse an output path that is one of the inputs or an existing YAML file."""
+    if target is None:
+        return
+    out = Path(target)
+    if (out.suffix in LAYOUT_SUFFIXES and out.exists()) or any(
+            out.resolve() == p.resolve() for p in inputs):
+        raise UsageError(f"rulecheck check: refusing to write over the layout {target}")
+
+
+@contextmanager
+def open_output(target: str | None) -> Iterator[TextIO]:
+    """Standard output, or ``target`` opened for UTF-8 text with ``\\n`` line ends."""
+    if target is None:
+        yield sys.stdout
+        return
+    try:
+        handle = open(target, "w", encoding="utf-8", newline="\n")
+    except OSError as exc:
+        raise UsageError(f"rulecheck check: cannot write {target}: {exc.strerror}") from None
+    with handle:
+        yield handle
+
+
+def write_report(args: argparse.Namespace, console: Console,
+                 results: list[tuple[str, str, list[Finding]]], errors: list[InputError],
+                 hidden: int | None) -> None:
+    with open_output(args.output) as handle:
+        if args.format == "text":
+            out = console if args.output is None else Console(file=handle, color_system=None,
+                                                               highlight=False)
+            render_check(out, [(p, f) for p, _, f in results],
+                         [e.problems[0].path for e in errors], hidden or 0)
+        elif args.format == "sarif":
+            from rulecheck.report.sarif import sarif_document
+
+            handle.write(dumps(sarif_document(results, errors, hidden)))
+        else:
+            handle.write(dumps(check_document(results, errors, hidden)))
 
 
 def cmd_analyze(args: argparse.Namespace, console: Console) -> int:
@@ -146,7 +224,9 @@ def cmd_explain(args: argparse.Namespace) -> int:
 
 def main(argv: list[str] | None = None) -> int:
     """Run the command line; return the exit status."""
-    console = Console(highlight=False)
+    # NO_COLOR (https://no-color.org): no escape codes at all, bold included
+    console = Console(highlight=False,
+                      color_system=None if os.environ.get("NO_COLOR") else "auto")
     try:
         args = build_parser().parse_args(argv)
         if args.command is None:
@@ -156,6 +236,12 @@ def main(argv: list[str] | None = None) -> int:
             return cmd_check(args, console)
         if args.command == "analyze":
             return cmd_analyze(args, console)
+        if args.command == "simulate":
+            from rulecheck.simulate_cmd import run_simulate
+
+            if args.duration is not None and not args.duration > 0:
+                raise UsageError("rulecheck simulate: --duration must be a positive number")
+            return run_simulate(args, console)
         if args.command == "rules":
             sys.stdout.write(rules_table())
             return EXIT_OK

@@ -1,10 +1,17 @@
 """Read a YAML layout into plain Python data plus the position of every node.
 
-PyYAML composes the node graph (with the C parser when present); this module
-walks it once, building dicts/lists/scalars and a table from each JSON path
-(a tuple of keys and indices) to its 1-based :class:`Position`. Later stages
+The data is built in one pass, together with a table from each JSON path (a
+tuple of keys and indices) to its 1-based :class:`Position`. Later stages
 report problems against these paths, so every message can name a line and a
 column.
+
+Two readers give the same result. The fast one reads the parser's event stream
+(with the C parser when present) straight into dicts and lists, resolving plain
+scalars with the loader's own implicit-resolver table; it skips PyYAML's
+composer, whose per-node resolver calls cost more than the parsing itself. It
+hands over to the second reader, which walks PyYAML's composed node graph, on
+anything it does not handle itself: anchors, aliases, explicit tags, several
+documents, and every error (so errors and their positions come from one place).
 """
 
 from __future__ import annotations
@@ -104,19 +111,192 @@ class _Builder:
     def _scalar(self, node: yaml.ScalarNode) -> Any:
         if node.tag == _STR:
             return node.value
-        try:
-            value = self.scalars.construct_object(node)
-        except yaml.YAMLError:
-            self.problems.add(_mark(node), f"cannot read the value {node.value!r}")
-            return node.value
-        if isinstance(value, float) and not math.isfinite(value):
-            self.problems.add(_mark(node), f"{node.value!r} is not a finite number",
-                              "write an ordinary number")
-        return value
+        return _construct(self.scalars, node, self.problems)
+
+
+def _construct(scalars: yaml.constructor.SafeConstructor, node: yaml.ScalarNode,
+               problems: ProblemCollector) -> Any:
+    """The value of a scalar node whose tag is not ``str`` (shared by both readers)."""
+    try:
+        value = scalars.construct_object(node)
+    except yaml.YAMLError:
+        problems.add(_mark(node), f"cannot read the value {node.value!r}")
+        return node.value
+    if isinstance(value, float) and not math.isfinite(value):
+        problems.add(_mark(node), f"{node.value!r} is not a finite number",
+                     "write an ordinary number")
+    return value
+
+
+class _Fallback(Exception):
+    """The event reader met something that it leaves to the node-graph reader."""
+
+
+_ScalarEvent = yaml.ScalarEvent
+_MappingStartEvent = yaml.MappingStartEvent
+_MappingEndEvent = yaml.MappingEndEvent
+_SequenceStartEvent = yaml.SequenceStartEvent
+_SequenceEndEvent = yaml.SequenceEndEvent
+_START_EVENTS = (_MappingStartEvent, _SequenceStartEvent)
+
+
+class _EventReader:
+    """Build data and positions straight from the parser's events (see the module docstring).
+
+    Produces exactly what :class:`_Builder` produces from the composed graph of
+    the same text: the same values, positions, key positions and problems, in
+    the same order. Raises :class:`_Fallback` where it cannot promise that.
+    """
+
+    def __init__(self, doc: Document, problems: ProblemCollector, loader: Any) -> None:
+        self.doc = doc
+        self.problems = problems
+        self.next_event = loader.get_event
+        self.scalars = yaml.constructor.SafeConstructor()
+        # The resolver's table, read now (it is mutable class data): the candidates for
+        # each first character, then the wildcard ones, in the resolver's own order.
+        table = _Loader.yaml_implicit_resolvers
+        self.wildcard = list(table.get(None, []))
+        self.by_first = {k: list(v) + self.wildcard for k, v in table.items() if k is not None}
+        self.resolved: dict[str, str] = {}  # plain scalar text -> tag (memo)
+
+    def resolve_plain(self, value: str) -> str:
+        """Tag of a plain scalar, as ``BaseResolver.resolve`` finds it (no path resolvers)."""
+        tag = self.resolved.get(value)
+        if tag is None:
+            tag = _STR
+            for candidate, regexp in self.by_first.get(value[0] if value else "", self.wildcard):
+                if regexp.match(value):
+                    tag = candidate
+                    break
+            self.resolved[value] = tag
+        return tag
+
+    def node(self, event: Any, path: JsonPath) -> Any:
+        mark = event.start_mark
+        self.doc.positions[path] = Position(mark.line + 1, mark.column + 1)
+        kind = event.__class__
+        if kind is _ScalarEvent:
+            if event.tag is not None or event.anchor is not None:
+                raise _Fallback
+            value = event.value
+            if event.implicit[0]:  # plain: resolved by the table; quoted: always a string
+                tag = self.resolve_plain(value)
+                if tag != _STR:
+                    node = yaml.ScalarNode(tag, value, event.start_mark, event.end_mark,
+                                           event.style)
+                    return _construct(self.scalars, node, self.problems)
+            return value
+        if kind is _MappingStartEvent and event.tag is None and event.anchor is None:
+            return self.mapping(path)
+        if kind is _SequenceStartEvent and event.tag is None and event.anchor is None:
+            return self.sequence(path)
+        raise _Fallback  # an alias, or a collection with an anchor or a tag
+
+    def sequence(self, path: JsonPath) -> list[Any]:
+        result: list[Any] = []
+        next_event, node = self.next_event, self.node
+        index = 0
+        while True:
+            event = next_event()
+            if event.__class__ is _SequenceEndEvent:
+                return result
+            result.append(node(event, (*path, index)))
+            index += 1
+
+    def mapping(self, path: JsonPath) -> dict[str, Any]:
+        result: dict[str, Any] = {}
+        next_event, key_positions = self.next_event, self.doc.key_positions
+        while True:
+            event = next_event()
+            kind = event.__class__
+            if kind is _MappingEndEvent:
+                return result
+            mark = event.start_mark
+            if kind is not _ScalarEvent or event.tag is not None or event.anchor is not None:
+                if not isinstance(event, _START_EVENTS):
+                    raise _Fallback  # an alias or a tagged or anchored key
+                self.skip(event)
+                self.problems.add(Position(mark.line + 1, mark.column + 1),
+                                  "a mapping key must be plain text")
+                self.skip(next_event())
+                continue
+            key = event.value
+            child = (*path, key)
+            if key in result:
+                first = key_positions[child]
+                self.problems.add(
+                    Position(mark.line + 1, mark.column + 1),
+                    f"key '{key}' appears twice in this mapping (first at line {first.line})",
+                    "keep one of them",
+                )
+                self.skip(next_event())
+                continue
+            key_positions[child] = Position(mark.line + 1, mark.column + 1)
+            result[key] = self.node(next_event(), child)
+
+    def skip(self, event: Any) -> None:
+        """Consume the node that starts with ``event`` (the composer would still see its
+        anchors and aliases, so those hand over)."""
+        depth = 0
+        while True:
+            if getattr(event, "anchor", None) is not None or getattr(event, "tag", None):
+                raise _Fallback
+            kind = event.__class__
+            if kind is _MappingStartEvent or kind is _SequenceStartEvent:
+                depth += 1
+            elif kind is _MappingEndEvent or kind is _SequenceEndEvent:
+                depth -= 1
+            elif kind is not _ScalarEvent:
+                raise _Fallback
+            if depth == 0:
+                return
+            event = self.next_event()
+
+
+def _read_events(text: str, path: str) -> Document | None:
+    """The fast reader: the document, or ``None`` for an empty stream; raises
+    :class:`_Fallback` (or any error) where the node-graph reader must decide."""
+    loader = _Loader(text)
+    try:
+        next_event = loader.get_event
+        if not isinstance(next_event(), yaml.StreamStartEvent):
+            raise _Fallback
+        event = next_event()
+        if isinstance(event, yaml.StreamEndEvent):
+            return None
+        if not isinstance(event, yaml.DocumentStartEvent):
+            raise _Fallback
+        doc = Document(path=path, data=None)
+        problems = ProblemCollector(path)
+        doc.data = _EventReader(doc, problems, loader).node(next_event(), ())
+        if not isinstance(next_event(), yaml.DocumentEndEvent):
+            raise _Fallback
+        if not isinstance(next_event(), yaml.StreamEndEvent):
+            raise _Fallback  # a second document: the composer words that error
+    finally:
+        loader.dispose()
+    problems.raise_if_any()
+    return doc
 
 
 def parse_text(text: str, path: str) -> Document:
     """Parse YAML ``text`` (named ``path`` in messages) into a :class:`Document`."""
+    try:
+        doc = _read_events(text, path)
+    except InputError:
+        raise
+    except Exception:  # noqa: BLE001 - anything unusual: the node-graph reader decides
+        return _parse_composed(text, path)
+    if doc is None:
+        raise InputError.at(
+            path, Position(1, 1), "the file is empty", "start with 'version: 1' and 'project:'"
+        )
+    return doc
+
+
+def _parse_composed(text: str, path: str) -> Document:
+    """The node-graph reader (PyYAML's composer), for what the event reader hands over."""
     try:
         root = yaml.compose(text, Loader=_Loader)
     except yaml.MarkedYAMLError as exc:

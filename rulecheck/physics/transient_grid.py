@@ -183,7 +183,39 @@ def build_grid(
     dt: float | None,
     max_adjustment: float = DEFAULT_MAX_ADJUSTMENT,
 ) -> Grid:
-    """Discretise a network into a :class:`Grid` (all arrays per pipe, SI)."""
+    """Discretise a pipe network into MOC sections on one time step (a :class:`Grid`).
+
+    N_i = round(L_i / (a_i dt)) >= 1 reaches per pipe, a_i adjusted to L_i / (N_i dt).
+
+    Parameters
+    ----------
+    upstream, downstream : ndarray
+        Node index at each end of each pipe [-].
+    length : ndarray
+        Pipe lengths [m].
+    diameter : ndarray
+        Inside diameters [m].
+    wave_speed : ndarray
+        Wave speeds before adjustment [m/s].
+    friction : ndarray
+        Darcy friction factors [-].
+    elevation : ndarray
+        Node elevations [m].
+    dt : float or None
+        Time step [s]; None chooses one with ``max_adjustment``.
+    max_adjustment : float
+        Largest allowed relative wave-speed adjustment [-].
+
+    Returns
+    -------
+    Grid
+        Flat section arrays and index maps (all SI) [-].
+
+    References
+    ----------
+    1. Wylie, E. B. & Streeter, V. L. (1993). Fluid Transients in Systems
+       (from memory; verify against the adopted edition for the section numbers).
+    """
     n_nodes = elevation.size
     travel = length / wave_speed
     if dt is None:

@@ -29,8 +29,9 @@ from rulecheck.report import CAUTION
 from rulecheck.rulebook import RuleSpec, rule_specs
 
 SARIF_VERSION = "2.1.0"
-SARIF_SCHEMA = ("https://docs.oasis-open.org/sarif/sarif/v2.1.0/errata01/os/schemas/"
-                "sarif-schema-2.1.0.json")
+SARIF_SCHEMA = (
+    "https://docs.oasis-open.org/sarif/sarif/v2.1.0/errata01/os/schemas/sarif-schema-2.1.0.json"
+)
 
 #: SARIF level for each rulecheck severity.
 LEVEL = {"hazard": "error", "violation": "error", "caution": "warning", "advisory": "note"}
@@ -39,8 +40,12 @@ LEVEL = {"hazard": "error", "violation": "error", "caution": "warning", "advisor
 _PLACED = ("rule", "element", "line", "column", "message", "waived")
 
 
-def sarif_document(results: list[tuple[str, str, list[Finding]]], errors: list[InputError],
-                   hidden: int | None = None, cwd: Path | None = None) -> dict[str, Any]:
+def sarif_document(
+    results: list[tuple[str, str, list[Finding]]],
+    errors: list[InputError],
+    hidden: int | None = None,
+    cwd: Path | None = None,
+) -> dict[str, Any]:
     """The SARIF log of one ``check`` run; ``hidden`` is the baseline's count, if one was used."""
     specs = rule_specs()
     index = {rule_id: i for i, rule_id in enumerate(specs)}
@@ -51,20 +56,25 @@ def sarif_document(results: list[tuple[str, str, list[Finding]]], errors: list[I
         for finding in findings:
             seen[uri, finding.rule, finding.element] += 1
             occurrence = seen[uri, finding.rule, finding.element]
-            sarif_results.append(_result(finding, uri, profile, index, occurrence,
-                                         baseline=hidden is not None))
+            sarif_results.append(
+                _result(finding, uri, profile, index, occurrence, baseline=hidden is not None)
+            )
     notifications = [_notification(problem, cwd) for error in errors for problem in error.problems]
     run: dict[str, Any] = {
-        "tool": {"driver": {
-            "name": "rulecheck",
-            "version": __version__,
-            "semanticVersion": __version__,
-            "fullDescription": {"text": "Design-rule checks for building water-supply layouts. "
-                                        + CAUTION},
-            "rules": [rule_descriptor(spec) for spec in specs.values()],
-        }},
-        "invocations": [{"executionSuccessful": not errors,
-                         "toolExecutionNotifications": notifications}],
+        "tool": {
+            "driver": {
+                "name": "rulecheck",
+                "version": __version__,
+                "semanticVersion": __version__,
+                "fullDescription": {
+                    "text": "Design-rule checks for building water-supply layouts. " + CAUTION
+                },
+                "rules": [rule_descriptor(spec) for spec in specs.values()],
+            }
+        },
+        "invocations": [
+            {"executionSuccessful": not errors, "toolExecutionNotifications": notifications}
+        ],
         "columnKind": "unicodeCodePoints",  # YAML marks count characters
         "results": sarif_results,
     }
@@ -92,32 +102,43 @@ def rule_descriptor(spec: RuleSpec) -> dict[str, Any]:
         "fullDescription": {"text": spec.rationale},
         "help": {"text": help_text, "markdown": "\n".join(markdown)},
         "defaultConfiguration": {"level": LEVEL[spec.severity]},
-        "properties": {"severity": spec.severity, "source": spec.source,
-                       "tags": ["plumbing", "water-supply"]},
+        "properties": {
+            "severity": spec.severity,
+            "source": spec.source,
+            "tags": ["plumbing", "water-supply"],
+        },
     }
 
 
-def _result(finding: Finding, uri: str, profile: str, index: dict[str, int], occurrence: int,
-            baseline: bool) -> dict[str, Any]:
+def _result(
+    finding: Finding, uri: str, profile: str, index: dict[str, int], occurrence: int, baseline: bool
+) -> dict[str, Any]:
     data = finding.to_dict()
     text = finding.message + (f" (fix: {finding.fix})" if finding.fix else "")
     result: dict[str, Any] = {"ruleId": finding.rule}
     if finding.rule in index:
         result["ruleIndex"] = index[finding.rule]
-    result.update({
-        "level": LEVEL[finding.severity],
-        "message": {"text": text},
-        "locations": [{
-            "physicalLocation": {
-                "artifactLocation": {"uri": uri},
-                "region": {"startLine": finding.line, "startColumn": finding.column},
+    result.update(
+        {
+            "level": LEVEL[finding.severity],
+            "message": {"text": text},
+            "locations": [
+                {
+                    "physicalLocation": {
+                        "artifactLocation": {"uri": uri},
+                        "region": {"startLine": finding.line, "startColumn": finding.column},
+                    },
+                    "logicalLocations": [{"name": finding.element, "kind": "element"}],
+                }
+            ],
+            # Stable across line shifts, like the baseline key: file, rule, element, occurrence.
+            "partialFingerprints": {
+                "rulecheckElement/v1": hashlib.sha256(
+                    f"{uri}\0{finding.rule}\0{finding.element}\0{occurrence}".encode()
+                ).hexdigest()[:32]
             },
-            "logicalLocations": [{"name": finding.element, "kind": "element"}],
-        }],
-        # Stable across line shifts, like the baseline key: file, rule, element, occurrence.
-        "partialFingerprints": {"rulecheckElement/v1": hashlib.sha256(
-            f"{uri}\0{finding.rule}\0{finding.element}\0{occurrence}".encode()).hexdigest()[:32]},
-    })
+        }
+    )
     if baseline:
         result["baselineState"] = "new"
     if finding.waived is not None:
@@ -134,11 +155,17 @@ def _notification(problem: InputProblem, cwd: Path | None) -> dict[str, Any]:
         "level": "error",
         "message": {"text": text},
         "descriptor": {"id": "input-error"},
-        "locations": [{"physicalLocation": {
-            "artifactLocation": {"uri": _uri(problem.path, cwd)},
-            "region": {"startLine": problem.position.line,
-                       "startColumn": problem.position.column},
-        }}],
+        "locations": [
+            {
+                "physicalLocation": {
+                    "artifactLocation": {"uri": _uri(problem.path, cwd)},
+                    "region": {
+                        "startLine": problem.position.line,
+                        "startColumn": problem.position.column,
+                    },
+                }
+            }
+        ],
     }
 
 
