@@ -18,8 +18,7 @@ from conftest import MINIMAL, locate, tweak
 
 from rulecheck.errors import EXIT_INPUT
 
-PIPE = "{id: P1, from: SVC, to: J1, material: copper-l, size: 3/4, length: 20 ft, service: cold}"
-FIXTURE = "{id: WC1, type: water-closet-tank, cold: J1, valve: {closing: slow, closure_time: 10 s}}"
+HUGE = "1" + "0" * 400  # a YAML integer far beyond the float range (1e400)
 
 # (case id, replacements, text appended, needle whose first character is the reported node,
 #  occurrence of the needle, message fragment)
@@ -31,6 +30,41 @@ CASES: list[tuple[str, list[tuple[str, str]], str, str, int, str]] = [
         "colour",
         1,
         "unknown key 'colour'",
+    ),
+    (
+        "unknown key inside a supply pressure mapping (points at the key)",
+        [("pressure: 60 psi", "pressure: {min: 50 psi, max: 70 psi, avg: 60 psi}")],
+        "",
+        "avg",
+        1,
+        "unknown key 'avg'",
+    ),
+    (
+        "unknown key inside a fixture's wsfu mapping (points at the key)",
+        [("cold: J1,", "cold: J1, wsfu: {cold: 1, warm: 2},")],
+        "",
+        "warm",
+        1,
+        "unknown key 'warm'",
+    ),
+    ("huge integer length", [("length: 20 ft", f"length: {HUGE}")], "", HUGE, 1, ""),
+    ("huge integer pressure", [("pressure: 60 psi", f"pressure: {HUGE}")], "", HUGE, 1, ""),
+    ("huge integer wsfu", [("cold: J1,", f"cold: J1, wsfu: {HUGE},")], "", HUGE, 1, ""),
+    (
+        "huge integer arrester rating",
+        [],
+        f"arresters:\n  - {{id: A1, at: J1, rating: {HUGE}}}\n",
+        HUGE,
+        1,
+        "",
+    ),
+    (
+        "control character (points at it)",
+        [("Minimal test layout", "Minimal\x07layout")],
+        "",
+        "\x07",
+        1,
+        "control",
     ),
     ("unknown top-level key", [], "extras: 1\n", "extras", 1, "unknown key 'extras'"),
     (
@@ -429,6 +463,19 @@ def test_non_finite_bare_numbers_are_input_errors(
     assert rc == EXIT_INPUT, out
     rc, out, err = cli("check", path)
     _assert_one_error(rc, out, err, path, line, col, "")
+
+
+@pytest.mark.parametrize("opening", ["[", "{a: "], ids=["lists", "mappings"])
+def test_very_deep_nesting_is_an_input_error(
+    write_layout: Callable[..., Path], cli: Callable[..., tuple[int, str, str]], opening: str
+) -> None:
+    """3000 nested lists or mappings: refused as input (exit 2), not a RecursionError."""
+    closing = "]" if opening == "[" else "}"
+    path = write_layout(append="extra: " + opening * 3000 + "1" + closing * 3000 + "\n")
+    rc, out, err = cli("check", path)
+    assert "Traceback" not in out + err
+    assert rc == EXIT_INPUT
+    assert err.startswith(f"{path}:") and ": error: " in err
 
 
 def test_json_format_reports_input_errors_with_positions(
