@@ -22,7 +22,7 @@ stubs are PEX (copper type L where PEX runs out of sizes).
 
 Usage::
 
-    python benchmarks/generate_tower.py --pipes 10000 -o benchmarks/out/tower-10k.yaml
+    python benchmarks/generate_tower.py --pipes 10000 -o benchmarks/out/tower-10000.yaml
     python benchmarks/generate_tower.py --floors 24 --fixtures 60 -o tower.yaml
 
 The output depends only on the arguments (``--seed`` drives the small random
@@ -45,7 +45,6 @@ from rulecheck.physics.demand import demand_flow
 from rulecheck.rulebook import rule_specs
 from rulecheck.units import to_si
 
-FT = 0.3048  # [m] per foot, exact [S: NIST SP 811]
 PROFILE = "ipc"
 HOT_TEMPERATURE_F = 130  # [CP] storage/delivery temperature of a residential tower
 FLOOR_HEIGHT_FT = 10.5  # [CP] floor-to-floor height of a residential tower
@@ -301,9 +300,15 @@ def _size(tower: _Tower, loads: dict[str, _Load]) -> None:
             p.material, p.size = choices[-1], tables[choices[-1]][-1][1]
 
 
-def generate(floors: int, fixtures: int, seed: int = 1) -> str:
-    """The YAML text of a tower of ``floors`` floors with ``fixtures`` fixtures each."""
+def generate(floors: int, fixtures: int, seed: int = 1, arresters: bool = True) -> str:
+    """The YAML text of a tower of ``floors`` floors with ``fixtures`` fixtures each.
+
+    ``arresters=False`` leaves the water-hammer arresters out: every quick-closing
+    valve then gives findings (a findings-heavy variant of the same layout).
+    """
     tower, loads = _build(floors, fixtures, seed)
+    if not arresters:
+        tower.arresters.clear()
     _size(tower, loads)
     pipe_lines = [
         f"  - {{id: P{i}, from: {p.start}, to: {p.end}, material: {p.material}, "
@@ -343,6 +348,9 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--floors", type=int, help="number of floors")
     parser.add_argument("--fixtures", type=int, help="fixtures per floor")
     parser.add_argument("--seed", type=int, default=1, help="seed of the run-length variations")
+    parser.add_argument(
+        "--no-arresters", action="store_true", help="leave the arresters out (many findings)"
+    )
     parser.add_argument("-o", "--output", help="output file (default: standard output)")
     args = parser.parse_args(argv)
     if args.pipes is not None:
@@ -355,7 +363,7 @@ def main(argv: list[str] | None = None) -> int:
         parser.error("give --pipes, or both --floors and --fixtures")
     if floors < 1 or fixtures < 1:
         parser.error("floors and fixtures must be at least 1")
-    text = generate(floors, fixtures, args.seed)
+    text = generate(floors, fixtures, args.seed, arresters=not args.no_arresters)
     if args.output:
         Path(args.output).parent.mkdir(parents=True, exist_ok=True)
         Path(args.output).write_text(text, encoding="utf-8")

@@ -89,7 +89,6 @@ class _Builder:
             cold_temperature=self.temperature(water, "cold_temperature", 288.15),
             hot_temperature=self.temperature(water, "hot_temperature", 333.15),
         )
-        layout.positions = {ident: self.doc.where(path) for ident, (_, path) in self.ids.items()}
         layout.supplies = [self.supply(p, s) for p, s in self.items("supplies")]
         layout.points = [Point(i["id"], self.q(i, p, "elevation", "length", 0.0), self.doc.where(p))
                          for p, i in self.items("points")]
@@ -100,6 +99,9 @@ class _Builder:
         layout.devices = [self.device(p, d) for p, d in self.items("devices")]
         layout.waivers = [self.waiver(p, w) for p, w in self.items("waivers")]
         self.problems.raise_if_any()
+        # Without problems every id is unique and every element built, each with the position
+        # of its path: the same table as {id: where(path)}, in the same order, made once.
+        layout.positions = {e.id: e.pos for kind in _ELEMENT_KINDS for e in getattr(layout, kind)}
         return layout
 
     def temperature(self, water: dict[str, Any], key: str, default: float) -> float:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import Any
 
@@ -53,6 +54,9 @@ class Finding:
         return data
 
 
-def _clean(value: float) -> float:
-    """Round to 6 significant figures so output bytes do not depend on float noise."""
+def _clean(value: float) -> float | None:
+    """Round to 6 significant figures so output bytes do not depend on float noise;
+    a non-finite value (an overflow from absurd input) becomes ``None`` (JSON null)."""
+    if not math.isfinite(value):
+        return None
     return float(f"{value:.6g}")

@@ -8,10 +8,11 @@ column.
 Two readers give the same result. The fast one reads the parser's event stream
 (with the C parser when present) straight into dicts and lists, resolving plain
 scalars with the loader's own implicit-resolver table; it skips PyYAML's
-composer, whose per-node resolver calls cost more than the parsing itself. It
-hands over to the second reader, which walks PyYAML's composed node graph, on
-anything it does not handle itself: anchors, aliases, explicit tags, several
-documents, and every error (so errors and their positions come from one place).
+composer, whose node objects and per-node resolver calls cost more than the
+parsing itself. It hands over to the second reader, which walks PyYAML's
+composed node graph, on anything it does not handle itself: anchors, aliases,
+explicit tags, several documents, and every error (so errors and their
+positions come from one place).
 """
 
 from __future__ import annotations
@@ -37,27 +38,58 @@ _SEQ = "tag:yaml.org,2002:seq"
 _STR = "tag:yaml.org,2002:str"
 
 
+_COLUMN_BITS = 32  # packed position: line << 32 | column (both 1-based; columns < 2**32)
+_COLUMN_MASK = (1 << _COLUMN_BITS) - 1
+
+
+def _pack(mark: Any) -> int:
+    """A YAML mark (0-based) as one packed 1-based position."""
+    return (mark.line + 1) << _COLUMN_BITS | (mark.column + 1)
+
+
+def _unpack(packed: int) -> Position:
+    return Position(packed >> _COLUMN_BITS, packed & _COLUMN_MASK)
+
+
 @dataclass
 class Document:
-    """A parsed layout: the data, where each value sits, and where each key sits."""
+    """A parsed layout: the data, where each value sits, and where each key sits.
+
+    Positions are kept packed in ints (a 100k-pipe file has millions of them;
+    as objects they cost more to make and to keep than the data itself) and
+    become :class:`Position` objects when asked for.
+    """
 
     path: str
     data: Any
-    positions: dict[JsonPath, Position] = field(default_factory=dict)
-    key_positions: dict[JsonPath, Position] = field(default_factory=dict)
+    marks: dict[JsonPath, int] = field(default_factory=dict)  # node path -> packed position
+    key_marks: dict[JsonPath, int] = field(default_factory=dict)  # key of that path -> packed
+
+    @property
+    def positions(self) -> dict[JsonPath, Position]:
+        """Every node's position, by path (built on each access; prefer :meth:`where`)."""
+        return {path: _unpack(packed) for path, packed in self.marks.items()}
+
+    @property
+    def key_positions(self) -> dict[JsonPath, Position]:
+        """Every mapping key's position, by the path it names (built on each access)."""
+        return {path: _unpack(packed) for path, packed in self.key_marks.items()}
 
     def where(self, path: JsonPath) -> Position:
         """Position of the node at ``path``, or of its nearest ancestor that has one."""
+        marks = self.marks
         while path:
-            found = self.positions.get(path)
+            found = marks.get(path)
             if found is not None:
-                return found
+                return _unpack(found)
             path = path[:-1]
-        return self.positions.get((), Position(1, 1))
+        found = marks.get(())
+        return Position(1, 1) if found is None else _unpack(found)
 
     def key_where(self, path: JsonPath) -> Position:
         """Position of the mapping key that names ``path`` (falls back to the value)."""
-        return self.key_positions.get(path) or self.where(path)
+        found = self.key_marks.get(path)
+        return self.where(path) if found is None else _unpack(found)
 
 
 def _mark(node: yaml.Node) -> Position:
@@ -72,7 +104,7 @@ class _Builder:
         self.active: set[int] = set()
 
     def build(self, node: yaml.Node, path: JsonPath) -> Any:
-        self.doc.positions[path] = _mark(node)
+        self.doc.marks[path] = _pack(node.start_mark)
         if isinstance(node, yaml.ScalarNode):
             return self._scalar(node)
         if id(node) in self.active:
@@ -97,14 +129,14 @@ class _Builder:
             key = str(key_node.value)
             child = (*path, key)
             if key in result:
-                first = self.doc.key_positions[child]
+                first = self.doc.key_marks[child] >> _COLUMN_BITS
                 self.problems.add(
                     _mark(key_node),
-                    f"key '{key}' appears twice in this mapping (first at line {first.line})",
+                    f"key '{key}' appears twice in this mapping (first at line {first})",
                     "keep one of them",
                 )
                 continue
-            self.doc.key_positions[child] = _mark(key_node)
+            self.doc.key_marks[child] = _pack(key_node.start_mark)
             result[key] = self.build(value_node, child)
         return result
 
@@ -125,7 +157,18 @@ def _construct(scalars: yaml.constructor.SafeConstructor, node: yaml.ScalarNode,
     if isinstance(value, float) and not math.isfinite(value):
         problems.add(_mark(node), f"{node.value!r} is not a finite number",
                      "write an ordinary number")
+    elif isinstance(value, int) and not isinstance(value, bool) and abs(value) > _LARGEST:
+        problems.add(_mark(node), f"the number {_short(node.value)} is too large",
+                     "write an ordinary number")
+        return 0
     return value
+
+
+_LARGEST = 10**15  # far beyond any plumbing quantity, well inside a float's exact range
+
+
+def _short(text: str) -> str:
+    return text if len(text) <= 20 else f"{text[:8]}…({len(text)} digits)"
 
 
 class _Fallback(Exception):
@@ -155,7 +198,8 @@ class _EventReader:
         self.scalars = yaml.constructor.SafeConstructor()
         # The resolver's table, read now (it is mutable class data): the candidates for
         # each first character, then the wildcard ones, in the resolver's own order.
-        table = _Loader.yaml_implicit_resolvers
+        loader_class: Any = _Loader
+        table: dict[Any, list[tuple[str, Any]]] = loader_class.yaml_implicit_resolvers
         self.wildcard = list(table.get(None, []))
         self.by_first = {k: list(v) + self.wildcard for k, v in table.items() if k is not None}
         self.resolved: dict[str, str] = {}  # plain scalar text -> tag (memo)
@@ -174,7 +218,7 @@ class _EventReader:
 
     def node(self, event: Any, path: JsonPath) -> Any:
         mark = event.start_mark
-        self.doc.positions[path] = Position(mark.line + 1, mark.column + 1)
+        self.doc.marks[path] = (mark.line + 1) << _COLUMN_BITS | (mark.column + 1)
         kind = event.__class__
         if kind is _ScalarEvent:
             if event.tag is not None or event.anchor is not None:
@@ -206,7 +250,7 @@ class _EventReader:
 
     def mapping(self, path: JsonPath) -> dict[str, Any]:
         result: dict[str, Any] = {}
-        next_event, key_positions = self.next_event, self.doc.key_positions
+        next_event, key_marks = self.next_event, self.doc.key_marks
         while True:
             event = next_event()
             kind = event.__class__
@@ -224,15 +268,15 @@ class _EventReader:
             key = event.value
             child = (*path, key)
             if key in result:
-                first = key_positions[child]
+                first = key_marks[child] >> _COLUMN_BITS
                 self.problems.add(
                     Position(mark.line + 1, mark.column + 1),
-                    f"key '{key}' appears twice in this mapping (first at line {first.line})",
+                    f"key '{key}' appears twice in this mapping (first at line {first})",
                     "keep one of them",
                 )
                 self.skip(next_event())
                 continue
-            key_positions[child] = Position(mark.line + 1, mark.column + 1)
+            key_marks[child] = (mark.line + 1) << _COLUMN_BITS | (mark.column + 1)
             result[key] = self.node(next_event(), child)
 
     def skip(self, event: Any) -> None:
@@ -304,15 +348,29 @@ def _parse_composed(text: str, path: str) -> Document:
         pos = Position(mark.line + 1, mark.column + 1) if mark else Position(1, 1)
         what = exc.problem or exc.context or "not valid YAML"
         raise InputError.at(path, pos, f"YAML syntax: {what}", "fix the YAML at this spot") from None
+    except yaml.reader.ReaderError as exc:  # a character YAML does not allow; no mark
+        line = text.count("\n", 0, exc.position) + 1
+        column = exc.position - (text.rfind("\n", 0, exc.position) + 1) + 1
+        raise InputError.at(
+            path, Position(line, column),
+            f"the control character {exc.character!r} is not allowed in YAML",
+            "delete it, or write it as an escape inside a double-quoted string") from None
     except yaml.YAMLError as exc:
         raise InputError.at(path, Position(1, 1), f"YAML syntax: {exc}") from None
+    except RecursionError:
+        raise InputError.at(path, Position(1, 1), "the YAML is nested too deeply",
+                            "a layout needs only a few levels of nesting") from None
     if root is None:
         raise InputError.at(
             path, Position(1, 1), "the file is empty", "start with 'version: 1' and 'project:'"
         )
     doc = Document(path=path, data=None)
     problems = ProblemCollector(path)
-    doc.data = _Builder(doc, problems).build(root, ())
+    try:
+        doc.data = _Builder(doc, problems).build(root, ())
+    except RecursionError:
+        raise InputError.at(path, Position(1, 1), "the YAML is nested too deeply",
+                            "a layout needs only a few levels of nesting") from None
     problems.raise_if_any()
     return doc
 

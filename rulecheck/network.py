@@ -59,10 +59,17 @@ def build_network(layout: Layout) -> Network:
     problems = ProblemCollector(layout.path)
     elevation = {p.id: p.elevation for p in layout.points}
     elevation.update({s.id: s.elevation for s in layout.supplies})
-    heaters = {h.outlet: h for h in layout.heaters}
-    roots = {"cold": [s.id for s in layout.supplies], "hot": [h.outlet for h in layout.heaters]}
+    heaters: dict[str, Heater] = {}
+    for heater in layout.heaters:
+        first = heaters.setdefault(heater.outlet, heater)
+        if first is not heater:
+            problems.add(heater.pos, f"heaters {first.id} (line {first.pos.line}) and "
+                         f"{heater.id} both feed outlet {heater.outlet}",
+                         "each heater needs its own outlet point")
+    roots = {"cold": [s.id for s in layout.supplies], "hot": list(heaters)}
     trees = {svc: Tree(svc, roots[svc]) for svc in SERVICES}
     children: dict[str, dict[str, list[int]]] = {svc: {} for svc in SERVICES}
+    is_root = {svc: set(roots[svc]) for svc in SERVICES}  # a tower has hundreds of roots
     pipes = layout.pipes
 
     for index, pipe in enumerate(pipes):
@@ -79,7 +86,7 @@ def build_network(layout: Layout) -> Network:
                          f"{other.id} (line {other.pos.line}) and {pipe.id}",
                          "each point has one feeding pipe; mark recirculation 'hot-return'")
             continue
-        if pipe.end in tree.roots:
+        if pipe.end in is_root[pipe.service]:
             problems.add(pipe.pos, f"{pipe.service} pipe {pipe.id} runs into {pipe.end}, "
                          f"which is a source of the {pipe.service} service",
                          "check the direction: 'from' is the end nearer the source")
@@ -114,9 +121,8 @@ def _walk(tree: Tree, children: dict[str, list[int]], pipes: list[Pipe]) -> None
 def _report_unreached(tree: Tree, pipes: list[Pipe], layout: Layout,
                       problems: ProblemCollector) -> None:
     reported_loops: set[str] = set()
-    for node, index in sorted(tree.parent.items(), key=lambda kv: kv[1]):
-        if node in tree.root_of:
-            continue
+    unreached = [(node, index) for node, index in tree.parent.items() if node not in tree.root_of]
+    for node, index in sorted(unreached, key=lambda kv: kv[1]):
         pipe = pipes[index]
         loop = _find_loop(node, tree, pipes)
         if loop:

@@ -23,8 +23,12 @@ from functools import cache
 from typing import Any
 
 import jsonschema
-from jsonschema._utils import equal as _json_equal
 from jsonschema.exceptions import ValidationError
+
+try:  # jsonschema's own equality (1 is not true, 1.0 is 1) keeps const/enum exactly alike
+    from jsonschema._utils import equal as _json_equal
+except ImportError:  # pragma: no cover - a private helper; without it no shortcut for them
+    _json_equal = None
 
 from rulecheck.errors import ProblemCollector
 from rulecheck.loader import Document, JsonPath
@@ -142,6 +146,7 @@ def validate(doc: Document, problems: ProblemCollector) -> None:
     except Exception:  # noqa: BLE001, S110 - let jsonschema decide
         pass
     for error in _validator().iter_errors(doc.data):
+        error = _branch_error(error)
         message, hint = _describe(error)
         path = tuple(error.absolute_path)
         if error.validator == "additionalProperties" and isinstance(error.instance, dict):
@@ -152,6 +157,25 @@ def validate(doc: Document, problems: ProblemCollector) -> None:
                     f"'{extras[0]}'", f"'{name}'"), hint)
             continue
         problems.add(doc.where(path), message, hint)
+
+
+def _branch_error(error: ValidationError) -> ValidationError:
+    """For a value that fits none of several forms, the error of the form it was meant as.
+
+    A mapping given where a quantity *or* a mapping is allowed was meant as the mapping:
+    report what is wrong inside it (an unknown key, say) rather than "wrong form". The
+    branch is the one whose errors are not about the value's type. Fixtures' "cold or hot"
+    choice keeps its own message.
+    """
+    while error.validator in ("oneOf", "anyOf") and error.context and \
+            not (error.validator == "anyOf" and tuple(error.absolute_path)[:1] == ("fixtures",)
+                 and len(error.absolute_path) == 2):
+        meant = [e for e in error.context if e.validator != "type"
+                 and e.validator not in ("oneOf", "anyOf")]
+        if len({e.schema_path[0] for e in meant}) != 1:
+            break  # no single form stands out: keep the general message
+        error = meant[0]
+    return error
 
 
 # ---- compiled validity check ------------------------------------------------------------
@@ -213,35 +237,54 @@ def _compile(schema: Any, root: dict[str, Any], refs: dict[str, list[Check]],
     checks: list[Check] = []
     if "$ref" in schema:
         checks.append(_ref(schema["$ref"], root, refs))
-    if "type" in schema:
-        names = schema["type"] if isinstance(schema["type"], list) else [schema["type"]]
-        if any(name not in _TYPES for name in names):
-            raise _Unsupported(f"type {names}")
+    # One type whose own keywords are present ({"type": "string", "pattern": ...}): the
+    # keyword check tests the type itself (strict), instead of passing other types along.
+    names = schema.get("type", [])
+    names = names if isinstance(names, list) else [names]
+    if any(name not in _TYPES for name in names):
+        raise _Unsupported(f"type {names}")
+    strict = names[0] if len(names) == 1 else None
+    families = {"object": _OBJECT, "array": _ARRAY, "string": _STRING, "number": _NUMBER}
+    if names and not (strict in families and families[strict] & set(schema)):
         tests = [_TYPES[name] for name in names]
         checks.append(tests[0] if len(tests) == 1 else lambda x: any(t(x) for t in tests))
+    if ("const" in schema or "enum" in schema) and _json_equal is None:
+        raise _Unsupported("const/enum without jsonschema's equality")
     if "const" in schema:
         const = schema["const"]
         checks.append(lambda x: _json_equal(x, const))
     if "enum" in schema:
         checks.append(_enum(schema["enum"]))
     if _OBJECT & set(schema):
-        checks.append(_object(schema, root, refs))
+        checks.append(_object(schema, root, refs, strict == "object"))
     if _ARRAY & set(schema):
-        checks.append(_array(schema, root, refs))
+        checks.append(_array(schema, root, refs, strict == "array"))
     if _STRING & set(schema):
-        checks.append(_string(schema))
+        checks.append(_string(schema, strict == "string"))
     if _NUMBER & set(schema):
-        checks.append(_number(schema))
+        checks.append(_number(schema, strict == "number"))
     if "oneOf" in schema:
         one = [_compile(sub, root, refs) for sub in schema["oneOf"]]
-        checks.append(lambda x: sum(1 for c in one if c(x)) == 1)
+        if len(one) == 2:  # exactly one of two (every check returns a bool)
+            first, second = one
+            checks.append(lambda x: first(x) != second(x))
+        else:
+            checks.append(lambda x: sum(1 for c in one if c(x)) == 1)
     if "anyOf" in schema:
         some = [_compile(sub, root, refs) for sub in schema["anyOf"]]
         checks.append(lambda x: any(c(x) for c in some))
+    return _all_of(checks)
+
+
+def _all_of(checks: list[Check]) -> Check:
+    """One predicate for all of ``checks`` (unrolled for the short lists schemas have)."""
     if not checks:
         return lambda x: True
     if len(checks) == 1:
         return checks[0]
+    if len(checks) == 2:
+        first, second = checks
+        return lambda x: first(x) and second(x)
     return lambda x: all(c(x) for c in checks)
 
 
@@ -274,8 +317,8 @@ def _enum(values: Any) -> Check:
     return lambda x: any(_json_equal(v, x) for v in values)
 
 
-def _object(schema: dict[str, Any], root: dict[str, Any],
-            refs: dict[str, list[Check]]) -> Check:
+def _object(schema: dict[str, Any], root: dict[str, Any], refs: dict[str, list[Check]],
+            strict: bool) -> Check:
     props = {k: _compile(v, root, refs) for k, v in schema.get("properties", {}).items()}
     extra = schema.get("additionalProperties", True)
     closed = extra is False
@@ -285,7 +328,7 @@ def _object(schema: dict[str, Any], root: dict[str, Any],
 
     def check(x: Any) -> bool:
         if not isinstance(x, dict):
-            return True
+            return not strict
         if len(x) < least:
             return False
         for name in required:
@@ -305,8 +348,8 @@ def _object(schema: dict[str, Any], root: dict[str, Any],
     return check
 
 
-def _array(schema: dict[str, Any], root: dict[str, Any],
-           refs: dict[str, list[Check]]) -> Check:
+def _array(schema: dict[str, Any], root: dict[str, Any], refs: dict[str, list[Check]],
+           strict: bool) -> Check:
     items = schema.get("items", True)
     if items is False:
         raise _Unsupported("items: false")
@@ -315,7 +358,7 @@ def _array(schema: dict[str, Any], root: dict[str, Any],
 
     def check(x: Any) -> bool:
         if not isinstance(x, list):
-            return True
+            return not strict
         if len(x) < least:
             return False
         for value in x:
@@ -326,25 +369,25 @@ def _array(schema: dict[str, Any], root: dict[str, Any],
     return check
 
 
-def _string(schema: dict[str, Any]) -> Check:
+def _string(schema: dict[str, Any], strict: bool) -> Check:
     search = re.compile(schema["pattern"]).search if "pattern" in schema else None
     least = schema.get("minLength", 0)
 
     def check(x: Any) -> bool:
         if not isinstance(x, str):
-            return True
+            return not strict
         return len(x) >= least and (search is None or search(x) is not None)
 
     return check
 
 
-def _number(schema: dict[str, Any]) -> Check:
+def _number(schema: dict[str, Any], strict: bool) -> Check:
     low, high = schema.get("minimum"), schema.get("maximum")
     above, below = schema.get("exclusiveMinimum"), schema.get("exclusiveMaximum")
 
     def check(x: Any) -> bool:
         if not _is_number(x):
-            return True
+            return not strict
         return not ((low is not None and x < low) or (high is not None and x > high)
                     or (above is not None and x <= above) or (below is not None and x >= below))
 

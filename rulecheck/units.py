@@ -50,6 +50,13 @@ def registry() -> pint.UnitRegistry:
     return ureg
 
 
+# Successful conversions of quantity texts, by (text, kind, system, positive, nonnegative):
+# a pure function of those, so a file of 100k pipes parses each distinct "12 ft" once.
+# Failures are not kept (they raise afresh, with the same message). Bounded in size.
+_CONVERTED: dict[tuple[str, str, str, bool, bool], float] = {}
+_CONVERTED_MAX = 100_000
+
+
 @cache
 def _affine(unit_text: str, kind: str) -> tuple[float, float]:
     """(scale, offset) taking a value in ``unit_text`` to SI for ``kind``."""
@@ -78,6 +85,12 @@ def to_si(
     Raises :class:`QuantityError` for a wrong kind, an unknown unit, a non-finite
     number, or a value that breaks ``positive`` / ``nonnegative``.
     """
+    text = value.__class__ is str  # texts repeat ("12 ft"): remember what each one gave
+    if text:
+        memo = (value, kind, system, positive, nonnegative)
+        known = _CONVERTED.get(memo)
+        if known is not None:
+            return known
     if isinstance(value, bool) or not isinstance(value, (int, float, str)):
         raise QuantityError(f"expected a {kind}", f"write e.g. '{_EXAMPLE[kind]}'")
     if isinstance(value, str):
@@ -97,6 +110,8 @@ def to_si(
         raise QuantityError(f"{kind} must be greater than zero, got {value!r}")
     if nonnegative and si < 0:
         raise QuantityError(f"{kind} must not be negative, got {value!r}")
+    if text and len(_CONVERTED) < _CONVERTED_MAX:
+        _CONVERTED[memo] = si
     return si
 
 

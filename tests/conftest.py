@@ -84,9 +84,17 @@ def write_layout(tmp_path: Path) -> Callable[..., Path]:
 
 
 @pytest.fixture
-def cli(capsys: pytest.CaptureFixture[str]) -> Callable[..., tuple[int, str, str]]:
-    """Run ``rulecheck.cli.main(argv)`` in-process; return (exit code, stdout, stderr)."""
+def cli(
+    capsys: pytest.CaptureFixture[str], tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> Callable[..., tuple[int, str, str]]:
+    """Run ``rulecheck.cli.main(argv)`` in-process; return (exit code, stdout, stderr).
+
+    The working folder is the test's scratch folder, so that no ``rulecheck.toml`` found
+    upwards from the repository changes the outcome; pass absolute paths.
+    """
     from rulecheck.cli import main
+
+    monkeypatch.chdir(tmp_path)
 
     def run(*argv: str | Path) -> tuple[int, str, str]:
         capsys.readouterr()

@@ -373,3 +373,63 @@ def test_si_layout_gives_the_same_si_values(write_layout: Callable[..., Path]) -
     b = analyse_file(write_layout(si, name="si.yaml"))
     for node in ("SVC", "J1", "J2"):
         assert b.static_max[node] == pytest.approx(a.static_max[node], rel=1e-9)
+
+
+def test_total_wsfu_when_the_heater_inlet_is_below_the_cold_point(
+    write_layout: Callable[..., Path],
+) -> None:
+    """The lavatory's cold side is at J1 and the heater hangs below J1 (J1 -> J2 = inlet):
+    P1 feeds both sides, total 0.7 [S: IPC Table E103.3(2)]; P2 feeds the heater only, hot
+    0.5; the hot pipe 0.5 (engineering-basis §3.1)."""
+    text = f"""\
+version: 1
+project: {{name: inlet below, units: us}}
+supplies:
+  - {{id: SVC, pressure: 60 psi}}
+heaters:
+  - {{id: WH1, inlet: J2, outlet: H0}}
+points:
+  - {{id: J1}}
+  - {{id: J2}}
+  - {{id: H0}}
+  - {{id: H1}}
+pipes:
+  - {{id: P1, from: SVC, to: J1, material: copper-l, size: 3/4, length: 20 ft, service: cold}}
+  - {{id: P2, from: J1, to: J2, material: copper-l, size: 3/4, length: 5 ft, service: cold}}
+  - {{id: P3, from: H0, to: H1, material: copper-l, size: 1/2, length: 15 ft, service: hot}}
+fixtures:
+  - {{id: L1, type: lavatory, cold: J1, hot: H1, {SLOW}}}
+"""
+    analysis = analyse_file(write_layout(text))
+    wsfu = by_pipe(analysis, analysis.wsfu)
+    assert wsfu == pytest.approx({"P1": 0.7, "P2": 0.5, "P3": 0.5})
+    # One fixture on every pipe: each carries the lavatory's 2 gpm [IPC Table 604.3, M].
+    assert by_pipe(analysis, analysis.flow) == pytest.approx(
+        {"P1": 2 * GPM, "P2": 2 * GPM, "P3": 2 * GPM}, rel=1e-9
+    )
+
+
+def test_flushometer_below_five_wsfu_uses_the_tank_column(
+    write_layout: Callable[..., Path],
+) -> None:
+    """engineering-basis §3.2: below the first flushometer row (5 WSFU) the flush-tank column
+    applies. Two project-local flush-valve fixtures of 1 WSFU and 1 gpm each: 2 WSFU ->
+    5.0 gpm (tank column, row 2 [S: IPC Table E103.3(3)])."""
+    local = """\
+fixture_types:
+  - id: test-flush-valve
+    wsfu: {cold: 1, hot: 0, total: 1}
+    flow: 1 gpm
+    min_pressure: 15 psi
+    flushometer: true
+    valve: {closing: slow, closure_time: 5 s}
+    source: invented for this test
+"""
+    text = tweak(
+        MINIMAL,
+        ("type: water-closet-tank", "type: test-flush-valve"),
+        append=f"  - {{id: F2, type: test-flush-valve, cold: J1, {SLOW}}}\n" + local,
+    )
+    analysis = analyse_file(write_layout(text))
+    assert float(analysis.wsfu[0]) == pytest.approx(2.0)
+    assert float(analysis.flow[0]) == pytest.approx(5.0 * GPM, rel=1e-9)

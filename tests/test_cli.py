@@ -42,11 +42,8 @@ LAYOUTS = {
 
 
 @pytest.fixture(autouse=True)
-def _isolated_cwd(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
-    """Run in a scratch folder so that no rulecheck.toml above the repository interferes."""
-    work = tmp_path / "cwd"
-    work.mkdir()
-    monkeypatch.chdir(work)
+def _plain_environment(monkeypatch: pytest.MonkeyPatch) -> None:
+    """No colour settings inherited from the shell that runs the tests."""
     monkeypatch.delenv("NO_COLOR", raising=False)
     monkeypatch.delenv("FORCE_COLOR", raising=False)
 
@@ -215,6 +212,21 @@ def test_json_is_valid_strict_json(write_layout: Callable[..., Path], cli: Cli) 
     ):
         rc, out, err = cli(*args)
         strict(out)
+
+
+def test_json_is_strict_even_for_extreme_values(
+    write_layout: Callable[..., Path], cli: Cli
+) -> None:
+    """A finite but absurd design flow (1e300 gpm) overflows the friction to infinity; the
+    machine output must still be JSON (RFC 8259 has no Infinity), whether the layout is
+    refused as input (exit 2) or checked (exit 1)."""
+    path = write_layout(tweak(MINIMAL, ("service: cold}", "service: cold, demand: 1e300 gpm}")))
+    for command in ("check", "analyze"):
+        rc, out, err = cli(command, path, "--format", "json")
+        assert "Traceback" not in out + err
+        assert rc in ((EXIT_FINDINGS, EXIT_INPUT) if command == "check" else (EXIT_OK, EXIT_INPUT))
+        if command == "check" or rc == EXIT_OK:
+            json.loads(out, parse_constant=lambda token: pytest.fail(f"non-JSON constant {token}"))
 
 
 def test_analyze_json_shape(cli: Cli) -> None:

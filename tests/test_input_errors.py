@@ -31,6 +31,50 @@ CASES: list[tuple[str, list[tuple[str, str]], str, str, int, str]] = [
         1,
         "unknown key 'colour'",
     ),
+    (
+        "unknown key inside a supply pressure mapping (points at the key)",
+        [("pressure: 60 psi", "pressure: {min: 50 psi, max: 70 psi, avg: 60 psi}")],
+        "",
+        "avg",
+        1,
+        "unknown key 'avg'",
+    ),
+    (
+        "unknown key inside a fixture's wsfu mapping (points at the key)",
+        [("cold: J1,", "cold: J1, wsfu: {cold: 1, warm: 2},")],
+        "",
+        "warm",
+        1,
+        "unknown key 'warm'",
+    ),
+    ("huge integer length", [("length: 20 ft", f"length: {HUGE}")], "", HUGE, 1, ""),
+    ("huge integer pressure", [("pressure: 60 psi", f"pressure: {HUGE}")], "", HUGE, 1, ""),
+    ("huge integer wsfu", [("cold: J1,", f"cold: J1, wsfu: {HUGE},")], "", HUGE, 1, ""),
+    (
+        "huge integer arrester rating",
+        [],
+        f"arresters:\n  - {{id: A1, at: J1, rating: {HUGE}}}\n",
+        HUGE,
+        1,
+        "",
+    ),
+    (
+        "control character (points at it)",
+        [("Minimal test layout", "Minimal\x07layout")],
+        "",
+        "\x07",
+        1,
+        "control",
+    ),
+    (
+        "project-local fixture type clashing with a built-in id",
+        [],
+        "fixture_types:\n  - {id: lavatory, wsfu: {cold: 1}, flow: 1 gpm, min_pressure: 8 psi, "
+        "source: x}\n",
+        "lavatory,",
+        1,
+        "'lavatory' is a built-in fixture type id",
+    ),
     ("unknown top-level key", [], "extras: 1\n", "extras", 1, "unknown key 'extras'"),
     (
         "missing required key (points at the mapping)",
@@ -258,7 +302,8 @@ def _assert_one_error(
     assert rc == EXIT_INPUT, (out, err)
     lines = [x for x in err.splitlines() if ": error: " in x]
     expected = f"{path}:{line}:{col}: error: "
-    assert any(x.startswith(expected) and fragment in x for x in lines), (expected, fragment, err)
+    assert len(lines) == 1, f"expected exactly one error, got:\n{err}"
+    assert lines[0].startswith(expected) and fragment in lines[0], (expected, fragment, err)
 
 
 @pytest.mark.parametrize(
@@ -358,6 +403,25 @@ def test_several_errors_reported_at_once_build(
         locate(text, "jacuzzi"),
     ]
     assert [x.split(": error: ")[0] for x in errors] == [f"{path}:{a}:{b}" for a, b in expected]
+
+
+def test_many_errors_are_capped_and_counted(
+    write_layout: Callable[..., Path], cli: Callable[..., tuple[int, str, str]]
+) -> None:
+    """60 unknown keys: the first 50 (rulecheck.errors.MAX_PROBLEMS) are printed with their
+    positions, and the other 10 are counted, not dropped silently."""
+    from rulecheck.errors import MAX_PROBLEMS
+
+    extra = ", ".join(f"k{i:02d}: 1" for i in range(60))
+    text = tweak(MINIMAL, ("service: cold}", f"service: cold, {extra}}}"))
+    path = write_layout(text)
+    rc, out, err = cli("check", path)
+    assert rc == EXIT_INPUT and "Traceback" not in out + err
+    errors = [x for x in err.splitlines() if ": error: " in x]
+    assert MAX_PROBLEMS == 50 and len(errors) == 50
+    line, col = locate(text, "k00")
+    assert errors[0].startswith(f"{path}:{line}:{col}: error: unknown key 'k00'")
+    assert "and 10 more problems" in err
 
 
 def test_errors_in_one_file_do_not_hide_others(

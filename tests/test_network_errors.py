@@ -135,6 +135,14 @@ CASES = [
         ["point H1 joins cold and hot pipes"],
     ),
     (
+        "one outlet fed by two heaters (second feed)",
+        points("H0", "H1"),
+        pipe("P2", "H0", "H1", "hot"),
+        "heaters:\n  - {id: WH1, inlet: J1, outlet: H0}\n  - {id: WH2, inlet: J1, outlet: H0}\n",
+        "{id: WH2",
+        ["H0", "WH1", "WH2"],
+    ),
+    (
         "heater inlet not on the cold network",
         points("H0", "H1", "J5"),
         pipe("P2", "H0", "H1", "hot"),

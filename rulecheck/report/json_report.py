@@ -67,4 +67,5 @@ def analysis_document(analysis: Analysis) -> dict[str, Any]:
 
 
 def dumps(document: dict[str, Any]) -> str:
-    return json.dumps(document, indent=2, ensure_ascii=False) + "\n"
+    # allow_nan=False: RFC 8259 has no NaN or Infinity; _clean maps them to null first
+    return json.dumps(document, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
