@@ -11,7 +11,7 @@ from __future__ import annotations
 from collections.abc import Iterable
 from typing import Any
 
-from rulecheck.catalog import Catalog, project_catalog, size_label
+from rulecheck.catalog import Catalog, project_catalog, size_label, wsfu_from
 from rulecheck.errors import ProblemCollector
 from rulecheck.loader import Document
 from rulecheck.model import (
@@ -225,8 +225,7 @@ def _wsfu_override(value: Any, base: Wsfu) -> Wsfu:
     if value is None:
         return base
     if isinstance(value, dict):
-        cold, hot = float(value.get("cold", 0.0)), float(value.get("hot", 0.0))
-        return Wsfu(cold, hot, float(value.get("total", cold + hot)))
+        return wsfu_from(value)
     total = float(value)
     if base.total > 0:  # keep the type's cold/hot proportions [D]
         return Wsfu(base.cold * total / base.total, base.hot * total / base.total, total)

@@ -111,8 +111,8 @@ def read_fixture_type(reader: Reader, entry: dict[str, Any], path: JsonPath) -> 
     return FixtureType(
         id=entry["id"],
         name=entry.get("name", entry["id"]),
-        wsfu_private=_wsfu(private),
-        wsfu_public=_wsfu(public),
+        wsfu_private=wsfu_from(private),
+        wsfu_public=wsfu_from(public),
         flow=flow,
         min_pressure=min_pressure,
         sides=sides,
@@ -123,10 +123,12 @@ def read_fixture_type(reader: Reader, entry: dict[str, Any], path: JsonPath) -> 
     )
 
 
-def _wsfu(values: dict[str, float]) -> Wsfu:
+def wsfu_from(values: dict[str, float]) -> Wsfu:
+    """Fixture units from a ``{cold, hot, total}`` mapping. A missing ``total`` is taken as
+    cold + hot: the IPC totals are smaller than that sum, so this errs high [D]."""
     cold = float(values.get("cold", 0.0))
     hot = float(values.get("hot", 0.0))
-    return Wsfu(cold, hot, float(values.get("total", max(cold, hot))))
+    return Wsfu(cold, hot, float(values.get("total", cold + hot)))
 
 
 @cache

@@ -56,6 +56,7 @@ class SurgeAnalysis:
     events: list[ValveEvent]
     served: dict[str, list[tuple[Fixture, str, float]]]  # arrester id -> (fixture, side, WSFU)
     within_reach: dict[tuple[str, str], list[tuple[float, str]]]  # (point, service) -> (dist, arrester)
+    side_index: dict[str, tuple] = field(default_factory=dict)  # memo for wsfu_within
 
 
 def pipe_wave_speeds(analysis: Analysis) -> np.ndarray:
@@ -156,7 +157,8 @@ def _screen_one(analysis: Analysis, speeds: np.ndarray, fixture: Fixture, side: 
     lowest, lowest_pipe = min(ratings) if ratings else (np.inf, "")
     return ValveEvent(
         fixture=fixture, side=side, point=point, path=path, flow=fixture.flow,
-        closure_time=t, critical_time=t_c, quick=fixture.closing == "quick" or t <= t_c,
+        closure_time=t, critical_time=t_c,
+        quick=bool(path) and (fixture.closing == "quick" or t <= t_c),  # no pipe: no column
         surge=surge, static_max=smax, static_min=smin, unprotected_peak=unprotected,
         peak=min(unprotected, profile.surge_limit) if protector else unprotected,
         min_pressure=minimum,
@@ -170,7 +172,7 @@ def _screen_one(analysis: Analysis, speeds: np.ndarray, fixture: Fixture, side: 
 
 def wsfu_within(analysis: Analysis, point: str, side: str, reach: float) -> float:
     """Fixture units (that side) of the fixtures whose point lies within ``reach`` of ``point``."""
-    adjacent = _adjacency(analysis, side)
+    adjacent, units_at = _side_index(analysis, side)
     best = {point: 0.0}
     queue = [(0.0, point)]
     while queue:
@@ -179,11 +181,22 @@ def wsfu_within(analysis: Analysis, point: str, side: str, reach: float) -> floa
             if dist + length <= reach + 1e-9 and dist + length < best.get(other, np.inf):
                 best[other] = dist + length
                 heapq.heappush(queue, (dist + length, other))
-    total = 0.0
-    for fixture in analysis.layout.fixtures:
-        if fixture.side_point(side) in best:
-            total += fixture.wsfu.cold if side == "cold" else fixture.wsfu.hot
-    return total
+    return sum(units_at.get(node, 0.0) for node in best)
+
+
+def _side_index(analysis: Analysis, side: str) -> tuple[dict, dict[str, float]]:
+    """Adjacency of one service tree and the fixture units at each of its points, built
+    once per analysis (a suggestion is asked for on every finding)."""
+    cache = analysis.surge.side_index if analysis.surge is not None else {}
+    if side not in cache:
+        units_at: dict[str, float] = {}
+        for fixture in analysis.layout.fixtures:
+            node = fixture.side_point(side)
+            if node is not None:
+                units = fixture.wsfu.cold if side == "cold" else fixture.wsfu.hot
+                units_at[node] = units_at.get(node, 0.0) + units
+        cache[side] = (_adjacency(analysis, side), units_at)
+    return cache[side]
 
 
 def arrester_capacity_ok(arrester: Arrester, served: list[tuple[Fixture, str, float]],

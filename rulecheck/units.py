@@ -32,6 +32,7 @@ BARE_UNIT = {
 _EXAMPLE = {"length": "12 ft", "diameter": "0.625 in", "pressure": "65 psi", "time": "30 ms",
             "flow": "2.5 gpm", "velocity": "8 ft/s", "temperature": "140 degF", "volume": "1 L"}
 
+_UNIT_TEXT = re.compile(r"^[A-Za-z°µ_][A-Za-z0-9°µ_ /*^.()-]*$")
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
 
 
@@ -99,6 +100,9 @@ def to_si(
             raise QuantityError(f"'{value}' is not a {kind}", f"write e.g. '{_EXAMPLE[kind]}'")
         number = float(match.group(1))
         unit_text = match.group(2) or BARE_UNIT[system][kind]
+        if not _UNIT_TEXT.match(unit_text):  # pint would quietly skip stray punctuation
+            raise QuantityError(f"unknown unit '{unit_text}'",
+                                f"write a {kind} such as '{_EXAMPLE[kind]}'")
     else:
         number = float(value)
         unit_text = BARE_UNIT[system][kind]
