@@ -47,16 +47,21 @@ class Analysis:
 
     def fixture_residual(self, fixture: Fixture) -> tuple[float, str]:
         """The lower residual pressure of the fixture's sides and which side it is."""
-        sides = [(self.residual[p], s) for s, p in (("cold", fixture.cold), ("hot", fixture.hot))
-                 if p is not None and p in self.residual]
+        sides = [
+            (self.residual[p], s)
+            for s, p in (("cold", fixture.cold), ("hot", fixture.hot))
+            if p is not None and p in self.residual
+        ]
         return min(sides)
 
 
 def analyse(layout: Layout, network: Network) -> Analysis:
     """Run the steady analysis of one layout."""
     profile = get_profile(layout.profile)
-    water = {"cold": water_properties(layout.cold_temperature),
-             "hot": water_properties(layout.hot_temperature)}
+    water = {
+        "cold": water_properties(layout.cold_temperature),
+        "hot": water_properties(layout.hot_temperature),
+    }
     n = len(layout.pipes)
     wsfu, served, largest, flush, continuous = _accumulate(layout, network)
     flow = np.asarray(demand_flow(wsfu, flush), dtype=float)
@@ -70,14 +75,24 @@ def analyse(layout: Layout, network: Network) -> Analysis:
     area = np.array([p.area for p in layout.pipes]) if n else np.zeros(0)
     diameter = np.array([p.inner_diameter for p in layout.pipes]) if n else np.zeros(0)
     props = [water["cold" if p.service == "cold" else "hot"] for p in layout.pipes]
-    drop = np.asarray(darcy_pressure_drop(
-        flow, diameter,
-        np.array([p.length + p.fittings_length for p in layout.pipes]),
-        np.array([p.material.roughness for p in layout.pipes]),
-        np.array([w.density for w in props]), np.array([w.viscosity for w in props]),
-    ), dtype=float) if n else np.zeros(0)
-    result = Analysis(layout, network, profile, water, wsfu, served, flow,
-                      flow / area if n else np.zeros(0), drop)
+    drop = (
+        np.asarray(
+            darcy_pressure_drop(
+                flow,
+                diameter,
+                np.array([p.length + p.fittings_length for p in layout.pipes]),
+                np.array([p.material.roughness for p in layout.pipes]),
+                np.array([w.density for w in props]),
+                np.array([w.viscosity for w in props]),
+            ),
+            dtype=float,
+        )
+        if n
+        else np.zeros(0)
+    )
+    result = Analysis(
+        layout, network, profile, water, wsfu, served, flow, flow / area if n else np.zeros(0), drop
+    )
     _pressures(result)
     return result
 

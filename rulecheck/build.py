@@ -15,7 +15,16 @@ from rulecheck.catalog import Catalog, project_catalog, size_label, wsfu_from
 from rulecheck.errors import ProblemCollector
 from rulecheck.loader import Document
 from rulecheck.model import (
-    Arrester, Device, Fixture, Heater, Layout, Pipe, Point, Supply, Waiver, Wsfu,
+    Arrester,
+    Device,
+    Fixture,
+    Heater,
+    Layout,
+    Pipe,
+    Point,
+    Supply,
+    Waiver,
+    Wsfu,
 )
 from rulecheck.profiles import arrester_classes, default_profile_id, get_profile, profile_ids
 from rulecheck.reader import Reader
@@ -42,15 +51,25 @@ class _Builder:
         self.known_rules = known_rules
         self.profile_id = profile_override or project.get("profile") or default_profile_id()
         if self.profile_id not in profile_ids():
-            self.problems.add(doc.where(("project", "profile")),
-                              f"unknown profile '{self.profile_id}'", _suggest(profile_ids()))
+            self.problems.add(
+                doc.where(("project", "profile")),
+                f"unknown profile '{self.profile_id}'",
+                _suggest(profile_ids()),
+            )
             self.profile_id = default_profile_id()
         self.profile = get_profile(self.profile_id)
         self.catalog: Catalog = project_catalog(doc, self.system, self.problems)
         self.ids: dict[str, tuple[str, tuple[str | int, ...]]] = {}
 
-    def q(self, node: dict[str, Any], path: tuple, key: str, kind: str, default: float | None = None,
-          **limits: bool) -> float:
+    def q(
+        self,
+        node: dict[str, Any],
+        path: tuple,
+        key: str,
+        kind: str,
+        default: float | None = None,
+        **limits: bool,
+    ) -> float:
         value = self.reader.quantity(node, path, key, kind, default, **limits)
         return 0.0 if value is None else value
 
@@ -64,9 +83,11 @@ class _Builder:
                 ident = item["id"]
                 if ident in self.ids:
                     first = self.doc.where(self.ids[ident][1])
-                    self.problems.add(self.doc.where((*path, "id")),
-                                      f"id '{ident}' is used twice (first at line {first.line})",
-                                      "every id must be unique across the whole file")
+                    self.problems.add(
+                        self.doc.where((*path, "id")),
+                        f"id '{ident}' is used twice (first at line {first.line})",
+                        "every id must be unique across the whole file",
+                    )
                 else:
                     self.ids[ident] = (kind, path)
 
@@ -77,21 +98,29 @@ class _Builder:
         if found is None or found[0] not in kinds:
             what = " or ".join(k[:-1] if k != "supplies" else "supply" for k in kinds)
             have = [i for i, (k, _) in self.ids.items() if k in kinds]
-            self.problems.add(self.doc.where((*path, key)),
-                              f"'{key}: {target}' names no {what} in this file", _suggest(have))
+            self.problems.add(
+                self.doc.where((*path, key)),
+                f"'{key}: {target}' names no {what} in this file",
+                _suggest(have),
+            )
         return str(target)
 
     def build(self) -> Layout:
         self.register_ids()
         project, water = self.data["project"], self.data.get("water", {})
         layout = Layout(
-            path=self.doc.path, name=project["name"], units=self.system, profile=self.profile_id,
+            path=self.doc.path,
+            name=project["name"],
+            units=self.system,
+            profile=self.profile_id,
             cold_temperature=self.temperature(water, "cold_temperature", 288.15),
             hot_temperature=self.temperature(water, "hot_temperature", 333.15),
         )
         layout.supplies = [self.supply(p, s) for p, s in self.items("supplies")]
-        layout.points = [Point(i["id"], self.q(i, p, "elevation", "length", 0.0), self.doc.where(p))
-                         for p, i in self.items("points")]
+        layout.points = [
+            Point(i["id"], self.q(i, p, "elevation", "length", 0.0), self.doc.where(p))
+            for p, i in self.items("points")
+        ]
         layout.heaters = [self.heater(p, h) for p, h in self.items("heaters")]
         layout.pipes = [pipe for p, i in self.items("pipes") if (pipe := self.pipe(p, i))]
         layout.fixtures = [f for p, i in self.items("fixtures") if (f := self.fixture(p, i))]
@@ -107,9 +136,11 @@ class _Builder:
     def temperature(self, water: dict[str, Any], key: str, default: float) -> float:
         value = self.reader.quantity(water, ("water",), key, "temperature", default)
         if value is not None and not _T_MIN <= value <= _T_MAX:
-            self.problems.add(self.doc.where(("water", key)),
-                              f"'{key}' is outside liquid water at atmospheric pressure",
-                              "use a temperature between 0 °C and 99 °C (32 °F to 210 °F)")
+            self.problems.add(
+                self.doc.where(("water", key)),
+                f"'{key}' is outside liquid water at atmospheric pressure",
+                "use a temperature between 0 °C and 99 °C (32 °F to 210 °F)",
+            )
         return default if value is None else value
 
     def supply(self, path: tuple, item: dict[str, Any]) -> Supply:
@@ -119,12 +150,18 @@ class _Builder:
             low = self.q(pressure, pp, "min", "pressure", nonnegative=True)
             high = self.q(pressure, pp, "max", "pressure", nonnegative=True)
             if low > high:
-                self.problems.add(self.doc.where(pp), "supply pressure 'min' is above 'max'",
-                                  "swap them")
+                self.problems.add(
+                    self.doc.where(pp), "supply pressure 'min' is above 'max'", "swap them"
+                )
         else:
             low = high = self.q(item, path, "pressure", "pressure", nonnegative=True)
-        return Supply(item["id"], low, high, self.q(item, path, "elevation", "length", 0.0),
-                      self.doc.where(path))
+        return Supply(
+            item["id"],
+            low,
+            high,
+            self.q(item, path, "elevation", "length", 0.0),
+            self.doc.where(path),
+        )
 
     def heater(self, path: tuple, item: dict[str, Any]) -> Heater:
         inlet = self.ref(path, "inlet", item, ("points",))
@@ -138,15 +175,19 @@ class _Builder:
         length = self.q(item, path, "length", "length", positive=True)
         material = self.catalog.materials.get(item["material"])
         if material is None:
-            self.problems.add(self.doc.where((*path, "material")),
-                              f"unknown material '{item['material']}'",
-                              _suggest(self.catalog.materials))
+            self.problems.add(
+                self.doc.where((*path, "material")),
+                f"unknown material '{item['material']}'",
+                _suggest(self.catalog.materials),
+            )
             return None
         label = size_label(item["size"])
         if label not in material.sizes:
-            self.problems.add(self.doc.where((*path, "size")),
-                              f"size '{label}' is not in the {material.id} table",
-                              f"sizes: {', '.join(material.sizes)}")
+            self.problems.add(
+                self.doc.where((*path, "size")),
+                f"size '{label}' is not in the {material.id} table",
+                f"sizes: {', '.join(material.sizes)}",
+            )
             return None
         fittings = item.get("fittings", self.profile.fittings_allowance)
         if isinstance(fittings, (int, float)) and not isinstance(fittings, bool):
@@ -155,18 +196,32 @@ class _Builder:
             fittings_length = self.q(item, path, "fittings", "length", nonnegative=True)
         demand = self.reader.quantity(item, path, "demand", "flow", None, nonnegative=True)
         od, wall = material.sizes[label]
-        return Pipe(item["id"], start, end, material, label, od, wall, length, fittings_length,
-                    item["service"], item.get("anchoring", "throughout"), demand,
-                    self.doc.where(path))
+        return Pipe(
+            item["id"],
+            start,
+            end,
+            material,
+            label,
+            od,
+            wall,
+            length,
+            fittings_length,
+            item["service"],
+            item.get("anchoring", "throughout"),
+            demand,
+            self.doc.where(path),
+        )
 
     def fixture(self, path: tuple, item: dict[str, Any]) -> Fixture | None:
         cold = self.ref(path, "cold", item, ("points",)) if "cold" in item else None
         hot = self.ref(path, "hot", item, ("points",)) if "hot" in item else None
         ftype = self.catalog.fixture_types.get(item["type"])
         if ftype is None:
-            self.problems.add(self.doc.where((*path, "type")),
-                              f"unknown fixture type '{item['type']}'",
-                              _suggest(self.catalog.fixture_types))
+            self.problems.add(
+                self.doc.where((*path, "type")),
+                f"unknown fixture type '{item['type']}'",
+                _suggest(self.catalog.fixture_types),
+            )
             return None
         occupancy = item.get("occupancy", "private")
         base = ftype.wsfu_public if occupancy == "public" else ftype.wsfu_private
@@ -174,14 +229,22 @@ class _Builder:
         valve = item.get("valve", {})
         vpath = (*path, "valve")
         return Fixture(
-            id=item["id"], type=ftype, cold=cold, hot=hot, occupancy=occupancy, wsfu=wsfu,
+            id=item["id"],
+            type=ftype,
+            cold=cold,
+            hot=hot,
+            occupancy=occupancy,
+            wsfu=wsfu,
             flow=self.q(item, path, "flow", "flow", ftype.flow, positive=True),
-            min_pressure=self.q(item, path, "min_pressure", "pressure", ftype.min_pressure,
-                                nonnegative=True),
+            min_pressure=self.q(
+                item, path, "min_pressure", "pressure", ftype.min_pressure, nonnegative=True
+            ),
             closing=valve.get("closing", ftype.closing),
-            closure_time=self.q(valve, vpath, "closure_time", "time", ftype.closure_time,
-                                nonnegative=True),
-            continuous=bool(item.get("continuous", False)), pos=self.doc.where(path),
+            closure_time=self.q(
+                valve, vpath, "closure_time", "time", ftype.closure_time, nonnegative=True
+            ),
+            continuous=bool(item.get("continuous", False)),
+            pos=self.doc.where(path),
         )
 
     def arrester(self, path: tuple, item: dict[str, Any]) -> Arrester:
@@ -193,7 +256,11 @@ class _Builder:
         else:
             rating_class, capacity = None, float(rating)
         return Arrester(
-            item["id"], at, rating_class, capacity, item.get("kind", "sealed"),
+            item["id"],
+            at,
+            rating_class,
+            capacity,
+            item.get("kind", "sealed"),
             self.reader.quantity(item, path, "gas_volume", "volume", None, positive=True),
             self.reader.quantity(item, path, "precharge", "pressure", None, nonnegative=True),
             self.doc.where(path),
@@ -201,22 +268,31 @@ class _Builder:
 
     def device(self, path: tuple, item: dict[str, Any]) -> Device:
         on = self.ref(path, "on", item, ("pipes",))
-        set_pressure = self.reader.quantity(item, path, "set_pressure", "pressure", None,
-                                            nonnegative=True)
+        set_pressure = self.reader.quantity(
+            item, path, "set_pressure", "pressure", None, nonnegative=True
+        )
         if item["kind"] == "pressure-reducing" and "set_pressure" not in item:
-            self.problems.add(self.doc.where(path), "a pressure-reducing device needs "
-                              "'set_pressure'", "add e.g. 'set_pressure: 60 psi'")
+            self.problems.add(
+                self.doc.where(path),
+                "a pressure-reducing device needs 'set_pressure'",
+                "add e.g. 'set_pressure: 60 psi'",
+            )
         loss = self.q(item, path, "loss", "pressure", 0.0, nonnegative=True)
         return Device(item["id"], item["kind"], on, set_pressure, loss, self.doc.where(path))
 
     def waiver(self, path: tuple, item: dict[str, Any]) -> Waiver:
         if item["rule"] not in self.known_rules:
-            self.problems.add(self.doc.where((*path, "rule")), f"unknown rule '{item['rule']}'",
-                              _suggest(self.known_rules))
+            self.problems.add(
+                self.doc.where((*path, "rule")),
+                f"unknown rule '{item['rule']}'",
+                _suggest(self.known_rules),
+            )
         if item["element"] not in self.ids:
-            self.problems.add(self.doc.where((*path, "element")),
-                              f"'element: {item['element']}' names nothing in this file",
-                              "name the id of a pipe, point, fixture or other element")
+            self.problems.add(
+                self.doc.where((*path, "element")),
+                f"'element: {item['element']}' names nothing in this file",
+                "name the id of a pipe, point, fixture or other element",
+            )
         return Waiver(item["rule"], item["element"], item["reason"].strip(), self.doc.where(path))
 
 

@@ -41,8 +41,11 @@ class _Parser(argparse.ArgumentParser):
 
 
 def build_parser() -> argparse.ArgumentParser:
-    parser = _Parser(prog="rulecheck", description="Design-rule checks for building "
-                     "water-supply layouts (YAML).", epilog=CAUTION)
+    parser = _Parser(
+        prog="rulecheck",
+        description="Design-rule checks for building water-supply layouts (YAML).",
+        epilog=CAUTION,
+    )
     parser.add_argument("--version", action="version", version=f"rulecheck {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
 
@@ -50,22 +53,37 @@ def build_parser() -> argparse.ArgumentParser:
     check.add_argument("paths", nargs="+", metavar="PATH", help="layout files or folders")
     check.add_argument("--format", choices=("text", "json", "sarif"), default="text")
     check.add_argument("--output", metavar="FILE", help="write the report to FILE, not stdout")
-    check.add_argument("--fail-on", choices=FAIL_ON, default=None,
-                       help="lowest severity that makes the exit status 1 "
-                            "(default: fail-on in rulecheck.toml, else violation)")
-    check.add_argument("--config", metavar="FILE",
-                       help="configuration file (default: the nearest rulecheck.toml upwards)")
+    check.add_argument(
+        "--fail-on",
+        choices=FAIL_ON,
+        default=None,
+        help="lowest severity that makes the exit status 1 "
+        "(default: fail-on in rulecheck.toml, else violation)",
+    )
+    check.add_argument(
+        "--config",
+        metavar="FILE",
+        help="configuration file (default: the nearest rulecheck.toml upwards)",
+    )
     baseline = check.add_mutually_exclusive_group()
-    baseline.add_argument("--baseline", metavar="FILE",
-                          help="report only findings not recorded in this baseline")
-    baseline.add_argument("--write-baseline", metavar="FILE",
-                          help="record the current findings as the baseline in FILE")
+    baseline.add_argument(
+        "--baseline", metavar="FILE", help="report only findings not recorded in this baseline"
+    )
+    baseline.add_argument(
+        "--write-baseline",
+        metavar="FILE",
+        help="record the current findings as the baseline in FILE",
+    )
     check.add_argument("--profile", choices=profile_ids(), help="override the layout's profile")
-    check.add_argument("--no-waivers", action="store_true",
-                       help="audit mode: ignore the layouts' waivers")
-    check.add_argument("--transient", action="store_true",
-                       help="simulate every quick-closing valve (method of characteristics) "
-                            "and judge surge peak and column separation on the simulation")
+    check.add_argument(
+        "--no-waivers", action="store_true", help="audit mode: ignore the layouts' waivers"
+    )
+    check.add_argument(
+        "--transient",
+        action="store_true",
+        help="simulate every quick-closing valve (method of characteristics) "
+        "and judge surge peak and column separation on the simulation",
+    )
 
     analyze = sub.add_parser("analyze", help="print flows, velocities and pressures")
     analyze.add_argument("path", metavar="FILE")
@@ -74,10 +92,18 @@ def build_parser() -> argparse.ArgumentParser:
 
     simulate = sub.add_parser("simulate", help="transient simulation of one valve closing")
     simulate.add_argument("path", metavar="FILE")
-    simulate.add_argument("--valve", required=True, metavar="FIXTURE[:side]",
-                          help="the fixture whose valve closes, and its side (cold or hot)")
-    simulate.add_argument("--duration", type=float, metavar="S",
-                          help="simulated time in seconds (default: closure + 10 round trips)")
+    simulate.add_argument(
+        "--valve",
+        required=True,
+        metavar="FIXTURE[:side]",
+        help="the fixture whose valve closes, and its side (cold or hot)",
+    )
+    simulate.add_argument(
+        "--duration",
+        type=float,
+        metavar="S",
+        help="simulated time in seconds (default: closure + 10 round trips)",
+    )
     simulate.add_argument("--format", choices=("text", "json", "csv"), default="text")
     simulate.add_argument("--profile", choices=profile_ids())
 
@@ -96,8 +122,13 @@ def collect_paths(raw: list[str], skip: Callable[[Path], bool] | None = None) ->
     for item in raw:
         path = Path(item)
         if path.is_dir():
-            found.extend(sorted(p for p in path.rglob("*") if p.suffix in LAYOUT_SUFFIXES
-                                and p.is_file() and not (skip and skip(p))))
+            found.extend(
+                sorted(
+                    p
+                    for p in path.rglob("*")
+                    if p.suffix in LAYOUT_SUFFIXES and p.is_file() and not (skip and skip(p))
+                )
+            )
         else:
             found.append(path)
     return found
@@ -121,8 +152,7 @@ def cmd_check(args: argparse.Namespace, console: Console) -> int:
     from rulecheck.pipeline import check_file
 
     config = load_config(args.config)
-    settings = config.apply(Settings(honour_waivers=not args.no_waivers,
-                                     transient=args.transient))
+    settings = config.apply(Settings(honour_waivers=not args.no_waivers, transient=args.transient))
     fail_on = args.fail_on or config.fail_on or "violation"
     known = baseline.read_baseline(args.baseline) if args.baseline else None
     results: list[tuple[str, str, list[Finding]]] = []
@@ -145,8 +175,10 @@ def cmd_check(args: argparse.Namespace, console: Console) -> int:
         print("rulecheck: baseline not written: fix the input errors first", file=sys.stderr)
     elif args.write_baseline:
         known = baseline.write_baseline(args.write_baseline, results)
-        print(f"rulecheck: wrote the baseline {args.write_baseline} "
-              f"({sum(known.values())} findings)", file=sys.stderr)
+        print(
+            f"rulecheck: wrote the baseline {args.write_baseline} ({sum(known.values())} findings)",
+            file=sys.stderr,
+        )
     hidden = None
     if known is not None:
         results, hidden = baseline.apply_baseline(results, known)
@@ -163,7 +195,8 @@ def refuse_overwrite(target: str | None, inputs: list[Path]) -> None:
         return
     out = Path(target)
     if (out.suffix in LAYOUT_SUFFIXES and out.exists()) or any(
-            out.resolve() == p.resolve() for p in inputs):
+        out.resolve() == p.resolve() for p in inputs
+    ):
         raise UsageError(f"rulecheck check: refusing to write over the layout {target}")
 
 
@@ -181,15 +214,26 @@ def open_output(target: str | None) -> Iterator[TextIO]:
         yield handle
 
 
-def write_report(args: argparse.Namespace, console: Console,
-                 results: list[tuple[str, str, list[Finding]]], errors: list[InputError],
-                 hidden: int | None) -> None:
+def write_report(
+    args: argparse.Namespace,
+    console: Console,
+    results: list[tuple[str, str, list[Finding]]],
+    errors: list[InputError],
+    hidden: int | None,
+) -> None:
     with open_output(args.output) as handle:
         if args.format == "text":
-            out = console if args.output is None else Console(file=handle, color_system=None,
-                                                               highlight=False)
-            render_check(out, [(p, f) for p, _, f in results],
-                         [e.problems[0].path for e in errors], hidden or 0)
+            out = (
+                console
+                if args.output is None
+                else Console(file=handle, color_system=None, highlight=False)
+            )
+            render_check(
+                out,
+                [(p, f) for p, _, f in results],
+                [e.problems[0].path for e in errors],
+                hidden or 0,
+            )
         elif args.format == "sarif":
             from rulecheck.report.sarif import sarif_document
 
@@ -213,20 +257,21 @@ def cmd_analyze(args: argparse.Namespace, console: Console) -> int:
 def cmd_explain(args: argparse.Namespace) -> int:
     spec = rule_specs().get(args.rule)
     if spec is None:
-        raise UsageError(f"rulecheck explain: unknown rule '{args.rule}' "
-                         f"(known: {', '.join(rule_specs())})")
+        raise UsageError(
+            f"rulecheck explain: unknown rule '{args.rule}' (known: {', '.join(rule_specs())})"
+        )
     from rulecheck.report.worked import worked_example
 
-    sys.stdout.write(explain_text(spec, args.profile, args.units,
-                                  worked_example(spec.id, args.units)))
+    sys.stdout.write(
+        explain_text(spec, args.profile, args.units, worked_example(spec.id, args.units))
+    )
     return EXIT_OK
 
 
 def main(argv: list[str] | None = None) -> int:
     """Run the command line; return the exit status."""
     # NO_COLOR (https://no-color.org): no escape codes at all, bold included
-    console = Console(highlight=False,
-                      color_system=None if os.environ.get("NO_COLOR") else "auto")
+    console = Console(highlight=False, color_system=None if os.environ.get("NO_COLOR") else "auto")
     try:
         args = build_parser().parse_args(argv)
         if args.command is None:

@@ -44,24 +44,42 @@ class RuleContext:
         return self.analysis.layout.units
 
     def limit(self, name: str, kind: str) -> float:
-        return self.spec.limit(self.analysis.layout.profile, name, kind,
-                               self.settings.limits.get(self.spec.id))
+        return self.spec.limit(
+            self.analysis.layout.profile, name, kind, self.settings.limits.get(self.spec.id)
+        )
 
     def fmt(self, value: float, kind: str) -> str:
         return fmt(value, kind, self.units)
 
-    def finding(self, element: str, message: str, *, measured: float | None = None,
-                limit: float | None = None, kind: str | None = None, fix: str = "",
-                severity: str | None = None, method: str = "",
-                pos: Position | None = None) -> Finding:
+    def finding(
+        self,
+        element: str,
+        message: str,
+        *,
+        measured: float | None = None,
+        limit: float | None = None,
+        kind: str | None = None,
+        fix: str = "",
+        severity: str | None = None,
+        method: str = "",
+        pos: Position | None = None,
+    ) -> Finding:
         layout = self.analysis.layout
         pos = pos or layout.positions.get(element)
         line, column = (pos.line, pos.column) if pos else (1, 1)
         return Finding(
             rule=self.spec.id,
             severity=self.settings.severity.get(self.spec.id, severity or self.spec.severity),
-            message=message, path=layout.path, line=line, column=column, element=element,
-            source=self.spec.source, measured=measured, limit=limit, kind=kind, fix=fix,
+            message=message,
+            path=layout.path,
+            line=line,
+            column=column,
+            element=element,
+            source=self.spec.source,
+            measured=measured,
+            limit=limit,
+            kind=kind,
+            fix=fix,
             method=method,
         )
 
@@ -89,13 +107,21 @@ def _guarded(check: Any, ctx: RuleContext) -> Iterable[Finding]:
     except Exception as exc:  # noqa: BLE001 - a broken rule must not stop the run
         last = traceback.extract_tb(exc.__traceback__)[-1]
         where = f"{last.filename.rsplit('/', 1)[-1]}:{last.lineno}"
-        return [ctx.finding(ctx.spec.id, (
-            f"internal error in rule {ctx.spec.id}: {type(exc).__name__}: {exc} (at {where}); "
-            "the rest of the check ran — please report this"), severity="hazard")]
+        return [
+            ctx.finding(
+                ctx.spec.id,
+                (
+                    f"internal error in rule {ctx.spec.id}: {type(exc).__name__}: {exc} "
+                    f"(at {where}); the rest of the check ran — please report this"
+                ),
+                severity="hazard",
+            )
+        ]
 
 
-def _apply_waivers(analysis: Analysis, findings: list[Finding], settings: Settings,
-                   shared: dict[str, Any]) -> list[Finding]:
+def _apply_waivers(
+    analysis: Analysis, findings: list[Finding], settings: Settings, shared: dict[str, Any]
+) -> list[Finding]:
     from dataclasses import replace
 
     from rulecheck.checks import REGISTRY
@@ -113,8 +139,11 @@ def _apply_waivers(analysis: Analysis, findings: list[Finding], settings: Settin
                 break
         result.append(finding)
     if "waiver-unused" not in settings.disabled:
-        ctx = RuleContext(analysis, rule_specs()["waiver-unused"], settings,
-                          {**shared, "unused_waivers": [w for i, w in enumerate(waivers)
-                                                        if i not in used]})
+        ctx = RuleContext(
+            analysis,
+            rule_specs()["waiver-unused"],
+            settings,
+            {**shared, "unused_waivers": [w for i, w in enumerate(waivers) if i not in used]},
+        )
         result.extend(_guarded(REGISTRY["waiver-unused"], ctx))
     return result

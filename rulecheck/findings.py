@@ -11,8 +11,15 @@ SEVERITIES = ("hazard", "violation", "caution", "advisory")
 SEVERITY_RANK = {name: rank for rank, name in enumerate(SEVERITIES)}
 
 #: SI unit printed in machine output for each kind of quantity.
-SI_UNIT = {"velocity": "m/s", "pressure": "Pa", "time": "s", "length": "m", "flow": "m^3/s",
-           "wsfu": "WSFU", "speed": "m/s"}
+SI_UNIT = {
+    "velocity": "m/s",
+    "pressure": "Pa",
+    "time": "s",
+    "length": "m",
+    "flow": "m^3/s",
+    "wsfu": "WSFU",
+    "speed": "m/s",
+}
 
 
 @dataclass(frozen=True)
@@ -37,8 +44,12 @@ class Finding:
 
     def to_dict(self) -> dict[str, Any]:
         data: dict[str, Any] = {
-            "rule": self.rule, "severity": self.severity, "element": self.element,
-            "line": self.line, "column": self.column, "message": self.message,
+            "rule": self.rule,
+            "severity": self.severity,
+            "element": self.element,
+            "line": self.line,
+            "column": self.column,
+            "message": self.message,
         }
         if self.measured is not None:
             data["measured"] = _clean(self.measured)

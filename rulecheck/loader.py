@@ -146,8 +146,9 @@ class _Builder:
         return _construct(self.scalars, node, self.problems)
 
 
-def _construct(scalars: yaml.constructor.SafeConstructor, node: yaml.ScalarNode,
-               problems: ProblemCollector) -> Any:
+def _construct(
+    scalars: yaml.constructor.SafeConstructor, node: yaml.ScalarNode, problems: ProblemCollector
+) -> Any:
     """The value of a scalar node whose tag is not ``str`` (shared by both readers)."""
     try:
         value = scalars.construct_object(node)
@@ -155,11 +156,13 @@ def _construct(scalars: yaml.constructor.SafeConstructor, node: yaml.ScalarNode,
         problems.add(_mark(node), f"cannot read the value {node.value!r}")
         return node.value
     if isinstance(value, float) and not math.isfinite(value):
-        problems.add(_mark(node), f"{node.value!r} is not a finite number",
-                     "write an ordinary number")
+        problems.add(
+            _mark(node), f"{node.value!r} is not a finite number", "write an ordinary number"
+        )
     elif isinstance(value, int) and not isinstance(value, bool) and abs(value) > _LARGEST:
-        problems.add(_mark(node), f"the number {_short(node.value)} is too large",
-                     "write an ordinary number")
+        problems.add(
+            _mark(node), f"the number {_short(node.value)} is too large", "write an ordinary number"
+        )
         return 0
     return value
 
@@ -227,8 +230,9 @@ class _EventReader:
             if event.implicit[0]:  # plain: resolved by the table; quoted: always a string
                 tag = self.resolve_plain(value)
                 if tag != _STR:
-                    node = yaml.ScalarNode(tag, value, event.start_mark, event.end_mark,
-                                           event.style)
+                    node = yaml.ScalarNode(
+                        tag, value, event.start_mark, event.end_mark, event.style
+                    )
                     return _construct(self.scalars, node, self.problems)
             return value
         if kind is _MappingStartEvent and event.tag is None and event.anchor is None:
@@ -261,8 +265,9 @@ class _EventReader:
                 if not isinstance(event, _START_EVENTS):
                     raise _Fallback  # an alias or a tagged or anchored key
                 self.skip(event)
-                self.problems.add(Position(mark.line + 1, mark.column + 1),
-                                  "a mapping key must be plain text")
+                self.problems.add(
+                    Position(mark.line + 1, mark.column + 1), "a mapping key must be plain text"
+                )
                 self.skip(next_event())
                 continue
             key = event.value
@@ -347,19 +352,27 @@ def _parse_composed(text: str, path: str) -> Document:
         mark = exc.problem_mark or exc.context_mark
         pos = Position(mark.line + 1, mark.column + 1) if mark else Position(1, 1)
         what = exc.problem or exc.context or "not valid YAML"
-        raise InputError.at(path, pos, f"YAML syntax: {what}", "fix the YAML at this spot") from None
+        raise InputError.at(
+            path, pos, f"YAML syntax: {what}", "fix the YAML at this spot"
+        ) from None
     except yaml.reader.ReaderError as exc:  # a character YAML does not allow; no mark
         line = text.count("\n", 0, exc.position) + 1
         column = exc.position - (text.rfind("\n", 0, exc.position) + 1) + 1
         raise InputError.at(
-            path, Position(line, column),
+            path,
+            Position(line, column),
             f"the control character {exc.character!r} is not allowed in YAML",
-            "delete it, or write it as an escape inside a double-quoted string") from None
+            "delete it, or write it as an escape inside a double-quoted string",
+        ) from None
     except yaml.YAMLError as exc:
         raise InputError.at(path, Position(1, 1), f"YAML syntax: {exc}") from None
     except RecursionError:
-        raise InputError.at(path, Position(1, 1), "the YAML is nested too deeply",
-                            "a layout needs only a few levels of nesting") from None
+        raise InputError.at(
+            path,
+            Position(1, 1),
+            "the YAML is nested too deeply",
+            "a layout needs only a few levels of nesting",
+        ) from None
     if root is None:
         raise InputError.at(
             path, Position(1, 1), "the file is empty", "start with 'version: 1' and 'project:'"
@@ -369,8 +382,12 @@ def _parse_composed(text: str, path: str) -> Document:
     try:
         doc.data = _Builder(doc, problems).build(root, ())
     except RecursionError:
-        raise InputError.at(path, Position(1, 1), "the YAML is nested too deeply",
-                            "a layout needs only a few levels of nesting") from None
+        raise InputError.at(
+            path,
+            Position(1, 1),
+            "the YAML is nested too deeply",
+            "a layout needs only a few levels of nesting",
+        ) from None
     problems.raise_if_any()
     return doc
 

@@ -63,9 +63,12 @@ def build_network(layout: Layout) -> Network:
     for heater in layout.heaters:
         first = heaters.setdefault(heater.outlet, heater)
         if first is not heater:
-            problems.add(heater.pos, f"heaters {first.id} (line {first.pos.line}) and "
-                         f"{heater.id} both feed outlet {heater.outlet}",
-                         "each heater needs its own outlet point")
+            problems.add(
+                heater.pos,
+                f"heaters {first.id} (line {first.pos.line}) and "
+                f"{heater.id} both feed outlet {heater.outlet}",
+                "each heater needs its own outlet point",
+            )
     roots = {"cold": [s.id for s in layout.supplies], "hot": list(heaters)}
     trees = {svc: Tree(svc, roots[svc]) for svc in SERVICES}
     children: dict[str, dict[str, list[int]]] = {svc: {} for svc in SERVICES}
@@ -74,22 +77,31 @@ def build_network(layout: Layout) -> Network:
 
     for index, pipe in enumerate(pipes):
         if pipe.start == pipe.end:
-            problems.add(pipe.pos, f"pipe {pipe.id} starts and ends at {pipe.start}",
-                         "a pipe must join two different points")
+            problems.add(
+                pipe.pos,
+                f"pipe {pipe.id} starts and ends at {pipe.start}",
+                "a pipe must join two different points",
+            )
             continue
         if pipe.service not in SERVICES:
             continue
         tree = trees[pipe.service]
         if pipe.end in tree.parent:
             other = pipes[tree.parent[pipe.end]]
-            problems.add(pipe.pos, f"point {pipe.end} is fed by two {pipe.service} pipes, "
-                         f"{other.id} (line {other.pos.line}) and {pipe.id}",
-                         "each point has one feeding pipe; mark recirculation 'hot-return'")
+            problems.add(
+                pipe.pos,
+                f"point {pipe.end} is fed by two {pipe.service} pipes, "
+                f"{other.id} (line {other.pos.line}) and {pipe.id}",
+                "each point has one feeding pipe; mark recirculation 'hot-return'",
+            )
             continue
         if pipe.end in is_root[pipe.service]:
-            problems.add(pipe.pos, f"{pipe.service} pipe {pipe.id} runs into {pipe.end}, "
-                         f"which is a source of the {pipe.service} service",
-                         "check the direction: 'from' is the end nearer the source")
+            problems.add(
+                pipe.pos,
+                f"{pipe.service} pipe {pipe.id} runs into {pipe.end}, "
+                f"which is a source of the {pipe.service} service",
+                "check the direction: 'from' is the end nearer the source",
+            )
             continue
         tree.parent[pipe.end] = index
         children[pipe.service].setdefault(pipe.start, []).append(index)
@@ -118,8 +130,9 @@ def _walk(tree: Tree, children: dict[str, list[int]], pipes: list[Pipe]) -> None
             queue.append(child)
 
 
-def _report_unreached(tree: Tree, pipes: list[Pipe], layout: Layout,
-                      problems: ProblemCollector) -> None:
+def _report_unreached(
+    tree: Tree, pipes: list[Pipe], layout: Layout, problems: ProblemCollector
+) -> None:
     reported_loops: set[str] = set()
     unreached = [(node, index) for node, index in tree.parent.items() if node not in tree.root_of]
     for node, index in sorted(unreached, key=lambda kv: kv[1]):
@@ -129,8 +142,11 @@ def _report_unreached(tree: Tree, pipes: list[Pipe], layout: Layout,
             key = min(loop)
             if key not in reported_loops:
                 reported_loops.add(key)
-                problems.add(pipe.pos, f"the {tree.service} pipes {' → '.join(loop)} form a loop",
-                             "a supply network must be a tree; mark recirculation 'hot-return'")
+                problems.add(
+                    pipe.pos,
+                    f"the {tree.service} pipes {' → '.join(loop)} form a loop",
+                    "a supply network must be a tree; mark recirculation 'hot-return'",
+                )
             continue
         top = pipe.start
         while top in tree.parent:
@@ -140,11 +156,17 @@ def _report_unreached(tree: Tree, pipes: list[Pipe], layout: Layout,
                 msg = f"hot pipe {pipe.id} is fed from {top}, which is not a heater outlet"
             else:
                 msg = f"hot pipe {pipe.id} hangs from {top}, which no heater outlet feeds"
-            problems.add(pipe.pos, msg + " (hot water needs a heater upstream)",
-                         "start the hot network at a heater's 'outlet' point")
+            problems.add(
+                pipe.pos,
+                msg + " (hot water needs a heater upstream)",
+                "start the hot network at a heater's 'outlet' point",
+            )
         else:
-            problems.add(pipe.pos, f"cold pipe {pipe.id} hangs from {top}, which no supply feeds",
-                         "connect it to a supply, or fix 'from'/'to'")
+            problems.add(
+                pipe.pos,
+                f"cold pipe {pipe.id} hangs from {top}, which no supply feeds",
+                "connect it to a supply, or fix 'from'/'to'",
+            )
 
 
 def _find_loop(node: str, tree: Tree, pipes: list[Pipe]) -> list[str]:
@@ -158,32 +180,48 @@ def _find_loop(node: str, tree: Tree, pipes: list[Pipe]) -> list[str]:
     return []
 
 
-def _check_services_meet_properly(trees: dict[str, Tree], layout: Layout,
-                                  problems: ProblemCollector) -> None:
+def _check_services_meet_properly(
+    trees: dict[str, Tree], layout: Layout, problems: ProblemCollector
+) -> None:
     cold, hot = trees["cold"].root_of, trees["hot"].root_of
     for point in layout.points:
         if point.id in cold and point.id in hot:
-            problems.add(point.pos, f"point {point.id} joins cold and hot pipes",
-                         "cold and hot water meet only through a heater")
+            problems.add(
+                point.pos,
+                f"point {point.id} joins cold and hot pipes",
+                "cold and hot water meet only through a heater",
+            )
     on_return = {p.start for p in layout.pipes} | {p.end for p in layout.pipes}
     for point in layout.points:
         if point.id not in cold and point.id not in hot and point.id not in on_return:
-            problems.add(point.pos, f"point {point.id} is not connected to any pipe",
-                         "connect it or remove it")
+            problems.add(
+                point.pos,
+                f"point {point.id} is not connected to any pipe",
+                "connect it or remove it",
+            )
 
 
-def _check_heaters_and_fixtures(trees: dict[str, Tree], layout: Layout,
-                                problems: ProblemCollector) -> None:
+def _check_heaters_and_fixtures(
+    trees: dict[str, Tree], layout: Layout, problems: ProblemCollector
+) -> None:
     cold, hot = trees["cold"].root_of, trees["hot"].root_of
     for heater in layout.heaters:
         if heater.inlet not in cold:
-            problems.add(heater.pos, f"heater {heater.id} inlet {heater.inlet} is not on the "
-                         "cold network", "feed the heater inlet from a cold pipe")
+            problems.add(
+                heater.pos,
+                f"heater {heater.id} inlet {heater.inlet} is not on the cold network",
+                "feed the heater inlet from a cold pipe",
+            )
     for fixture in layout.fixtures:
         for side, point, members in (("cold", fixture.cold, cold), ("hot", fixture.hot, hot)):
             if point is not None and point not in members:
-                where = "the hot network" if point in hot else (
-                    "the cold network" if point in cold else "no network")
-                problems.add(fixture.pos, f"fixture {fixture.id}: its {side} side is at {point}, "
-                             f"which is on {where}",
-                             f"connect '{side}' to a point on the {side} network")
+                where = (
+                    "the hot network"
+                    if point in hot
+                    else ("the cold network" if point in cold else "no network")
+                )
+                problems.add(
+                    fixture.pos,
+                    f"fixture {fixture.id}: its {side} side is at {point}, which is on {where}",
+                    f"connect '{side}' to a point on the {side} network",
+                )

@@ -42,8 +42,9 @@ def analyse_file(path: str | Path, profile: str | None = None) -> Analysis:
     return analysis
 
 
-def check_file(path: str | Path, settings: Settings | None = None,
-               profile: str | None = None) -> FileResult:
+def check_file(
+    path: str | Path, settings: Settings | None = None, profile: str | None = None
+) -> FileResult:
     analysis = analyse_file(path, profile)
     if settings is not None and settings.transient:
         from rulecheck.transient_setup import apply_transient

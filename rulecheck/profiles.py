@@ -63,8 +63,12 @@ class ArresterClass:
 def arrester_classes() -> dict[str, ArresterClass]:
     raw = yaml.safe_load(read_text("rules", "arresters.yaml"))["classes"]
     return {
-        name: ArresterClass(name, float(v["min_wsfu"]), float(v["max_wsfu"]),
-                            bool(v.get("single_residential_appliance", False)))
+        name: ArresterClass(
+            name,
+            float(v["min_wsfu"]),
+            float(v["max_wsfu"]),
+            bool(v.get("single_residential_appliance", False)),
+        )
         for name, v in raw.items()
     }
 

@@ -36,8 +36,9 @@ class RuleSpec:
         merged.update(self.limits.get(profile, {}))
         return merged
 
-    def limit(self, profile: str, name: str, kind: str,
-              overrides: dict[str, Any] | None = None) -> float:
+    def limit(
+        self, profile: str, name: str, kind: str, overrides: dict[str, Any] | None = None
+    ) -> float:
         """The limit ``name`` in SI for ``profile`` (an override, if given, wins)."""
         raw = (overrides or {}).get(name, self.raw_limits(profile)[name])
         return to_si(raw, kind, "si")
@@ -56,9 +57,14 @@ def rule_specs() -> dict[str, RuleSpec]:
             if raw["severity"] not in SEVERITIES:
                 raise RuntimeError(f"rule {raw['id']}: unknown severity {raw['severity']!r}")
             specs[raw["id"]] = RuleSpec(
-                id=raw["id"], title=raw["title"], severity=raw["severity"],
-                source=raw["source"], rationale=raw["rationale"].strip(), fix=raw["fix"].strip(),
-                formula=raw.get("formula", "").strip(), limits=raw.get("limits", {}),
+                id=raw["id"],
+                title=raw["title"],
+                severity=raw["severity"],
+                source=raw["source"],
+                rationale=raw["rationale"].strip(),
+                fix=raw["fix"].strip(),
+                formula=raw.get("formula", "").strip(),
+                limits=raw.get("limits", {}),
                 examples=raw.get("examples", {}),
             )
     return specs

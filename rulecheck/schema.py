@@ -97,7 +97,11 @@ def _describe(error: ValidationError) -> tuple[str, str]:
     if kind in ("minimum", "exclusiveMinimum", "maximum", "exclusiveMaximum"):
         return f"{where} is {value!r}, out of range ({error.message})", ""
     if kind in ("oneOf", "anyOf"):
-        if path and path[-1] in ("cold", "hot") or (error.schema.get("anyOf") and path[:1] == ("fixtures",)):
+        if (
+            path
+            and path[-1] in ("cold", "hot")
+            or (error.schema.get("anyOf") and path[:1] == ("fixtures",))
+        ):
             return f"{where} needs 'cold', 'hot' or both", "name the point that feeds each side"
         return f"{where} has the wrong form: {_kind_of(value)} {value!r}", _oneof_hint(path)
     return f"{where}: {error.message}", ""
@@ -116,8 +120,14 @@ def _oneof_hint(path: JsonPath) -> str:
 
 
 def _a(expected: Any) -> str:
-    names = {"object": "a mapping", "array": "a list", "string": "text", "number": "a number",
-             "integer": "a whole number", "boolean": "true or false"}
+    names = {
+        "object": "a mapping",
+        "array": "a list",
+        "string": "text",
+        "number": "a number",
+        "integer": "a whole number",
+        "boolean": "true or false",
+    }
     if isinstance(expected, list):
         return " or ".join(names.get(e, e) for e in expected)
     return names.get(expected, str(expected))
@@ -153,8 +163,11 @@ def validate(doc: Document, problems: ProblemCollector) -> None:
             allowed = set(error.schema.get("properties", {}))
             extras = sorted(set(error.instance) - allowed)
             for name in extras:
-                problems.add(doc.key_where((*path, name)), message.replace(
-                    f"'{extras[0]}'", f"'{name}'"), hint)
+                problems.add(
+                    doc.key_where((*path, name)),
+                    message.replace(f"'{extras[0]}'", f"'{name}'"),
+                    hint,
+                )
             continue
         problems.add(doc.where(path), message, hint)
 
@@ -167,11 +180,20 @@ def _branch_error(error: ValidationError) -> ValidationError:
     branch is the one whose errors are not about the value's type. Fixtures' "cold or hot"
     choice keeps its own message.
     """
-    while error.validator in ("oneOf", "anyOf") and error.context and \
-            not (error.validator == "anyOf" and tuple(error.absolute_path)[:1] == ("fixtures",)
-                 and len(error.absolute_path) == 2):
-        meant = [e for e in error.context if e.validator != "type"
-                 and e.validator not in ("oneOf", "anyOf")]
+    while (
+        error.validator in ("oneOf", "anyOf")
+        and error.context
+        and not (
+            error.validator == "anyOf"
+            and tuple(error.absolute_path)[:1] == ("fixtures",)
+            and len(error.absolute_path) == 2
+        )
+    ):
+        meant = [
+            e
+            for e in error.context
+            if e.validator != "type" and e.validator not in ("oneOf", "anyOf")
+        ]
         if len({e.schema_path[0] for e in meant}) != 1:
             break  # no single form stands out: keep the general message
         error = meant[0]
@@ -182,8 +204,20 @@ def _branch_error(error: ValidationError) -> ValidationError:
 
 Check = Callable[[Any], bool]
 
-_ANNOTATIONS = frozenset({"$schema", "$comment", "$defs", "title", "description", "default",
-                          "examples", "deprecated", "readOnly", "writeOnly"})
+_ANNOTATIONS = frozenset(
+    {
+        "$schema",
+        "$comment",
+        "$defs",
+        "title",
+        "description",
+        "default",
+        "examples",
+        "deprecated",
+        "readOnly",
+        "writeOnly",
+    }
+)
 _OBJECT = frozenset({"properties", "additionalProperties", "required", "minProperties"})
 _ARRAY = frozenset({"items", "minItems"})
 _STRING = frozenset({"pattern", "minLength"})
@@ -205,8 +239,10 @@ _TYPES: dict[str, Check] = {
     "array": lambda x: isinstance(x, list),
     "string": lambda x: isinstance(x, str),
     "number": _is_number,
-    "integer": lambda x: not isinstance(x, bool) and (
-        isinstance(x, int) or (isinstance(x, float) and x.is_integer())),
+    "integer": lambda x: (
+        not isinstance(x, bool)
+        and (isinstance(x, int) or (isinstance(x, float) and x.is_integer()))
+    ),
     "boolean": lambda x: isinstance(x, bool),
     "null": lambda x: x is None,
 }
@@ -222,8 +258,9 @@ def _compiled_check() -> Check | None:
         return None
 
 
-def _compile(schema: Any, root: dict[str, Any], refs: dict[str, list[Check]],
-             top: bool = False) -> Check:
+def _compile(
+    schema: Any, root: dict[str, Any], refs: dict[str, list[Check]], top: bool = False
+) -> Check:
     """A predicate true exactly where jsonschema (draft 2020-12) finds ``schema`` valid."""
     if schema is True or schema == {}:
         return lambda x: True
@@ -317,8 +354,9 @@ def _enum(values: Any) -> Check:
     return lambda x: any(_json_equal(v, x) for v in values)
 
 
-def _object(schema: dict[str, Any], root: dict[str, Any], refs: dict[str, list[Check]],
-            strict: bool) -> Check:
+def _object(
+    schema: dict[str, Any], root: dict[str, Any], refs: dict[str, list[Check]], strict: bool
+) -> Check:
     props = {k: _compile(v, root, refs) for k, v in schema.get("properties", {}).items()}
     extra = schema.get("additionalProperties", True)
     closed = extra is False
@@ -348,8 +386,9 @@ def _object(schema: dict[str, Any], root: dict[str, Any], refs: dict[str, list[C
     return check
 
 
-def _array(schema: dict[str, Any], root: dict[str, Any], refs: dict[str, list[Check]],
-           strict: bool) -> Check:
+def _array(
+    schema: dict[str, Any], root: dict[str, Any], refs: dict[str, list[Check]], strict: bool
+) -> Check:
     items = schema.get("items", True)
     if items is False:
         raise _Unsupported("items: false")
@@ -388,7 +427,11 @@ def _number(schema: dict[str, Any], strict: bool) -> Check:
     def check(x: Any) -> bool:
         if not _is_number(x):
             return not strict
-        return not ((low is not None and x < low) or (high is not None and x > high)
-                    or (above is not None and x <= above) or (below is not None and x >= below))
+        return not (
+            (low is not None and x < low)
+            or (high is not None and x > high)
+            or (above is not None and x <= above)
+            or (below is not None and x >= below)
+        )
 
     return check

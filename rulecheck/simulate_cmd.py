@@ -19,17 +19,24 @@ from rulecheck.units import fmt
 
 def _pick_event(analysis: Any, spec: str) -> Any:
     fixture, _, side = spec.partition(":")
-    events = [e for e in analysis.surge.events if e.fixture.id == fixture
-              and (not side or e.side == side)]
+    events = [
+        e for e in analysis.surge.events if e.fixture.id == fixture and (not side or e.side == side)
+    ]
     if not events:
         sides = sorted({f"{e.fixture.id}:{e.side}" for e in analysis.surge.events})
-        raise InputError.at(analysis.layout.path, Position(1, 1),
-                            f"--valve {spec}: no such fixture side in this layout",
-                            f"valves: {', '.join(sides[:12])}")
+        raise InputError.at(
+            analysis.layout.path,
+            Position(1, 1),
+            f"--valve {spec}: no such fixture side in this layout",
+            f"valves: {', '.join(sides[:12])}",
+        )
     if len(events) > 1:
-        raise InputError.at(analysis.layout.path, events[0].fixture.pos,
-                            f"fixture {fixture} has a cold and a hot valve",
-                            f"name the side: --valve {fixture}:cold or {fixture}:hot")
+        raise InputError.at(
+            analysis.layout.path,
+            events[0].fixture.pos,
+            f"fixture {fixture} has a cold and a hot valve",
+            f"name the side: --valve {fixture}:cold or {fixture}:hot",
+        )
     return events[0]
 
 
@@ -64,8 +71,9 @@ def run_simulate(args: argparse.Namespace, console: Console) -> int:
         out = io.StringIO()
         writer = csv.writer(out, lineterminator="\n")
         writer.writerow(["t_s", "p_Pa"])
-        writer.writerows((f"{t:.6g}", f"{p:.6g}") for t, p in zip(result.t, result.valve_pressure,
-                                                                 strict=True))
+        writer.writerows(
+            (f"{t:.6g}", f"{p:.6g}") for t, p in zip(result.t, result.valve_pressure, strict=True)
+        )
         sys.stdout.write(out.getvalue())
     else:
         lines = [
@@ -77,14 +85,21 @@ def run_simulate(args: argparse.Namespace, console: Console) -> int:
             f"(screening said {fmt(event.unprotected_peak, 'pressure', units)}); minimum "
             f"{fmt(run.minimum, 'pressure', units)}",
             f"vapour cavities: {'yes' if result.cavitation else 'none'}"
-            + "".join(f"; at node {n} from {a * 1000:.1f} ms" for n, a, _ in result.cavity_events[:5]),
+            + "".join(
+                f"; at node {n} from {a * 1000:.1f} ms" for n, a, _ in result.cavity_events[:5]
+            ),
         ]
         for arrester, volume in sorted(run.sized_arresters.items()):
-            lines.append(f"arrester {arrester}: no gas_volume given; an equivalent "
-                         f"{volume * 1e6:.0f} mL was sized from its class by the energy method")
+            lines.append(
+                f"arrester {arrester}: no gas_volume given; an equivalent "
+                f"{volume * 1e6:.0f} mL was sized from its class by the energy method"
+            )
         lines.append("along the path (max / min):")
-        lines += [f"  {pid}: {fmt(run.path_max[pid], 'pressure', units)} / "
-                  f"{fmt(run.path_min[pid], 'pressure', units)}" for pid in run.path_max]
+        lines += [
+            f"  {pid}: {fmt(run.path_max[pid], 'pressure', units)} / "
+            f"{fmt(run.path_min[pid], 'pressure', units)}"
+            for pid in run.path_max
+        ]
         console.print("\n".join(lines), soft_wrap=True, highlight=False, markup=False)
     return EXIT_OK
 
@@ -92,14 +107,25 @@ def run_simulate(args: argparse.Namespace, console: Console) -> int:
 def _document(run: Any) -> dict[str, Any]:
     r, e = run.result, run.event
     return {
-        "version": 1, "valve": e.fixture.id, "side": e.side,
-        "peak_pressure": _clean(run.peak), "min_pressure": _clean(run.minimum),
-        "time_of_peak": _clean(float(r.time_of_peak)), "cavitation": bool(r.cavitation),
+        "version": 1,
+        "valve": e.fixture.id,
+        "side": e.side,
+        "peak_pressure": _clean(run.peak),
+        "min_pressure": _clean(run.minimum),
+        "time_of_peak": _clean(float(r.time_of_peak)),
+        "cavitation": bool(r.cavitation),
         "dt": _clean(float(r.dt)),
         "max_wave_speed_adjustment": _clean(float(r.max_wave_speed_adjustment)),
         "sized_arresters": {k: _clean(v) for k, v in sorted(run.sized_arresters.items())},
-        "path": {pid: {"max_pressure": _clean(run.path_max[pid]),
-                       "min_pressure": _clean(run.path_min[pid])} for pid in run.path_max},
-        "trace": {"t": [_clean(float(t)) for t in r.t],
-                  "p": [_clean(float(p)) for p in r.valve_pressure]},
+        "path": {
+            pid: {
+                "max_pressure": _clean(run.path_max[pid]),
+                "min_pressure": _clean(run.path_min[pid]),
+            }
+            for pid in run.path_max
+        },
+        "trace": {
+            "t": [_clean(float(t)) for t in r.t],
+            "p": [_clean(float(p)) for p in r.valve_pressure],
+        },
     }

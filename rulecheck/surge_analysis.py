@@ -18,7 +18,11 @@ import numpy as np
 from rulecheck.analysis import Analysis
 from rulecheck.model import Arrester, Fixture
 from rulecheck.physics.surge import (
-    STANDARD_ATMOSPHERE, column_separates, critical_time, min_safe_closure_time, surge_pressure,
+    STANDARD_ATMOSPHERE,
+    column_separates,
+    critical_time,
+    min_safe_closure_time,
+    surge_pressure,
 )
 from rulecheck.physics.wavespeed import wave_speed
 
@@ -55,7 +59,9 @@ class SurgeAnalysis:
     wave_speed: np.ndarray  # per pipe [m/s]
     events: list[ValveEvent]
     served: dict[str, list[tuple[Fixture, str, float]]]  # arrester id -> (fixture, side, WSFU)
-    within_reach: dict[tuple[str, str], list[tuple[float, str]]]  # (point, service) -> (dist, arrester)
+    within_reach: dict[
+        tuple[str, str], list[tuple[float, str]]
+    ]  # (point, service) -> (dist, arrester)
     side_index: dict[str, tuple] = field(default_factory=dict)  # memo for wsfu_within
 
 
@@ -66,9 +72,13 @@ def pipe_wave_speeds(analysis: Analysis) -> np.ndarray:
     for i, pipe in enumerate(layout.pipes):
         water = analysis.water_for(pipe.service)
         speeds[i] = wave_speed(
-            water.bulk_modulus, water.density,
-            pipe.material.modulus_at(layout.temperature(pipe.service)), pipe.material.poisson,
-            pipe.inner_diameter, pipe.wall, pipe.anchoring,
+            water.bulk_modulus,
+            water.density,
+            pipe.material.modulus_at(layout.temperature(pipe.service)),
+            pipe.material.poisson,
+            pipe.inner_diameter,
+            pipe.wall,
+            pipe.anchoring,
         )
     return speeds
 
@@ -137,8 +147,14 @@ def screen_surges(analysis: Analysis) -> SurgeAnalysis:
     return SurgeAnalysis(speeds, events, served, reach)
 
 
-def _screen_one(analysis: Analysis, speeds: np.ndarray, fixture: Fixture, side: str,
-                point: str, protector: str | None) -> ValveEvent:
+def _screen_one(
+    analysis: Analysis,
+    speeds: np.ndarray,
+    fixture: Fixture,
+    side: str,
+    point: str,
+    protector: str | None,
+) -> ValveEvent:
     layout, profile = analysis.layout, analysis.profile
     water = analysis.water_for(side)
     path = analysis.network.path_up(point, side)
@@ -156,17 +172,30 @@ def _screen_one(analysis: Analysis, speeds: np.ndarray, fixture: Fixture, side: 
     ratings = [(p.material.rating_at(temperature), p.id) for p in pipes]
     lowest, lowest_pipe = min(ratings) if ratings else (np.inf, "")
     return ValveEvent(
-        fixture=fixture, side=side, point=point, path=path, flow=fixture.flow,
-        closure_time=t, critical_time=t_c,
+        fixture=fixture,
+        side=side,
+        point=point,
+        path=path,
+        flow=fixture.flow,
+        closure_time=t,
+        critical_time=t_c,
         quick=bool(path) and (fixture.closing == "quick" or t <= t_c),  # no pipe: no column
-        surge=surge, static_max=smax, static_min=smin, unprotected_peak=unprotected,
+        surge=surge,
+        static_max=smax,
+        static_min=smin,
+        unprotected_peak=unprotected,
         peak=min(unprotected, profile.surge_limit) if protector else unprotected,
         min_pressure=minimum,
-        min_safe_closure=(min_safe_closure_time(water.density, lengths, dv, smax,
-                                                profile.surge_limit) if path else 0.0),
-        lowest_rating=float(lowest), lowest_rating_pipe=lowest_pipe, protected_by=protector,
-        column_separation=protector is None and column_separates(
-            minimum, water.vapour_pressure, STANDARD_ATMOSPHERE),
+        min_safe_closure=(
+            min_safe_closure_time(water.density, lengths, dv, smax, profile.surge_limit)
+            if path
+            else 0.0
+        ),
+        lowest_rating=float(lowest),
+        lowest_rating_pipe=lowest_pipe,
+        protected_by=protector,
+        column_separation=protector is None
+        and column_separates(minimum, water.vapour_pressure, STANDARD_ATMOSPHERE),
     )
 
 
@@ -199,12 +228,14 @@ def _side_index(analysis: Analysis, side: str) -> tuple[dict, dict[str, float]]:
     return cache[side]
 
 
-def arrester_capacity_ok(arrester: Arrester, served: list[tuple[Fixture, str, float]],
-                         appliance_types: frozenset[str]) -> bool:
+def arrester_capacity_ok(
+    arrester: Arrester, served: list[tuple[Fixture, str, float]], appliance_types: frozenset[str]
+) -> bool:
     """Whether the fixtures an arrester serves fit its class (AA: one residential appliance)."""
     total = sum(units for _, _, units in served)
     if arrester.rating_class == "AA":
         fixtures = {f.id for f, _, _ in served}
         return len(fixtures) <= 1 and all(
-            f.type.id in appliance_types and f.occupancy == "private" for f, _, _ in served)
+            f.type.id in appliance_types and f.occupancy == "private" for f, _, _ in served
+        )
     return total <= arrester.capacity + 1e-9

@@ -15,15 +15,23 @@ of the static head for the linear equations, an approximation once cavities form
 from __future__ import annotations
 
 import math
+import multiprocessing as mp
+import os
 from collections.abc import Callable
+from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass
 
-from rulecheck.analysis import G, Analysis
+from rulecheck.analysis import Analysis, G
 from rulecheck.physics.demand import demand_flow
 from rulecheck.physics.friction import friction_factor, reynolds_number
 from rulecheck.physics.surge import STANDARD_ATMOSPHERE
 from rulecheck.physics.transient import (
-    ClosingValve, GasArrester, TransientNetwork, TransientPipe, TransientResult, simulate,
+    ClosingValve,
+    GasArrester,
+    TransientNetwork,
+    TransientPipe,
+    TransientResult,
+    simulate,
 )
 from rulecheck.surge_analysis import ValveEvent
 
@@ -39,8 +47,9 @@ class EventRun:
     sized_arresters: dict[str, float]  # arrester id -> equivalent gas volume [m³] we sized
 
 
-def equivalent_gas_volume(energy: float, p_static_abs: float, p_limit_abs: float,
-                          n: float) -> float:
+def equivalent_gas_volume(
+    energy: float, p_static_abs: float, p_limit_abs: float, n: float
+) -> float:
     """Energy method [D]: the gas volume at ``p_static_abs`` that absorbs ``energy`` [J] in a
     polytropic compression (exponent ``n``) ending at ``p_limit_abs``.
 
@@ -67,7 +76,9 @@ def _path_nodes(analysis: Analysis, event: ValveEvent) -> set[str]:
     """The valve's path to the root plus the pipes that join nearby arresters to it."""
     layout, tree = analysis.layout, analysis.network.trees[event.side]
     keep = {event.point} | {layout.pipes[k].start for k in event.path}
-    nearby = {a for _, a in analysis.surge.within_reach.get((event.point, event.side), [])}
+    # the arrester the screening credits (nearest sealed one in reach); the others nearby
+    # are left out of the path model like the other branches [D]
+    nearby = {event.protected_by} if event.protected_by else set()
     for arrester in layout.arresters:
         if arrester.id not in nearby:
             continue
@@ -80,16 +91,20 @@ def _path_nodes(analysis: Analysis, event: ValveEvent) -> set[str]:
     return keep
 
 
-def build_event_network(analysis: Analysis, event: ValveEvent, whole_tree: bool = True,
-                        ) -> tuple[TransientNetwork, dict[str, float], list[str]]:
+def build_event_network(
+    analysis: Analysis,
+    event: ValveEvent,
+    whole_tree: bool = True,
+) -> tuple[TransientNetwork, dict[str, float], list[str]]:
     """The MOC network of the event's service tree (or of its path model); also the
     arrester volumes we sized and the layout pipe id of each transient pipe."""
     layout, network = analysis.layout, analysis.network
     tree = network.trees[event.side]
     root = tree.root_of[event.point]
     wanted = None if whole_tree else _path_nodes(analysis, event)
-    nodes = [n for n in tree.order if tree.root_of.get(n) == root
-             and (wanted is None or n in wanted)]
+    nodes = [
+        n for n in tree.order if tree.root_of.get(n) == root and (wanted is None or n in wanted)
+    ]
     index = {n: i for i, n in enumerate(nodes)}
     water = analysis.water_for(event.side)
     on_path = set(event.path)
@@ -101,39 +116,60 @@ def build_event_network(analysis: Analysis, event: ValveEvent, whole_tree: bool 
         re = reynolds_number(velocity, pipe.inner_diameter, water.density, water.viscosity)
         f = friction_factor(re, pipe.material.roughness / pipe.inner_diameter)
         # physical length for the waves; the fittings allowance goes into the friction [D]
-        pipes.append(TransientPipe(
-            index[pipe.start], index[node], pipe.length, pipe.inner_diameter,
-            float(analysis.surge.wave_speed[k]),
-            float(f) * (pipe.length + pipe.fittings_length) / pipe.length,
-            event.flow if k in on_path else 0.0))
+        pipes.append(
+            TransientPipe(
+                index[pipe.start],
+                index[node],
+                pipe.length,
+                pipe.inner_diameter,
+                float(analysis.surge.wave_speed[k]),
+                float(f) * (pipe.length + pipe.fittings_length) / pipe.length,
+                event.flow if k in on_path else 0.0,
+            )
+        )
         ids.append(pipe.id)
     elevation = tuple(network.elevation[n] for n in nodes)
     head = analysis.static_min[root] / (water.density * G) + network.elevation[root]
     sized: dict[str, float] = {}
     gas = []
-    energy = 0.5 * water.density * sum(layout.pipes[k].area * layout.pipes[k].length
-                                       * (event.flow / layout.pipes[k].area) ** 2
-                                       for k in event.path)
+    energy = (
+        0.5
+        * water.density
+        * sum(
+            layout.pipes[k].area * layout.pipes[k].length * (event.flow / layout.pipes[k].area) ** 2
+            for k in event.path
+        )
+    )
     for arrester in layout.arresters:
         if arrester.kind != "sealed" or arrester.at not in index:
             continue
         p_static = analysis.static_min[arrester.at] + STANDARD_ATMOSPHERE
-        precharge = (arrester.precharge + STANDARD_ATMOSPHERE if arrester.precharge is not None
-                     else p_static)
+        precharge = (
+            arrester.precharge + STANDARD_ATMOSPHERE if arrester.precharge is not None else p_static
+        )
         volume = arrester.gas_volume
         if volume is None:
             volume = equivalent_gas_volume(
-                max(energy, class_energy(arrester.capacity)), p_static, analysis.profile.surge_limit + STANDARD_ATMOSPHERE,
-                analysis.profile.polytropic_exponent)
+                max(energy, class_energy(arrester.capacity)),
+                p_static,
+                analysis.profile.surge_limit + STANDARD_ATMOSPHERE,
+                analysis.profile.polytropic_exponent,
+            )
             sized[arrester.id] = volume
-        gas.append(GasArrester(index[arrester.at], volume, precharge,
-                               analysis.profile.polytropic_exponent))
+        gas.append(
+            GasArrester(index[arrester.at], volume, precharge, analysis.profile.polytropic_exponent)
+        )
     net = TransientNetwork(
-        n_nodes=len(nodes), pipes=tuple(pipes), elevation=elevation,
+        n_nodes=len(nodes),
+        pipes=tuple(pipes),
+        elevation=elevation,
         fixed_heads={index[root]: head},
         valve=ClosingValve(index[event.point], event.closure_time),
-        arresters=tuple(gas), density=water.density, vapour_pressure=water.vapour_pressure,
-        atmospheric=STANDARD_ATMOSPHERE)
+        arresters=tuple(gas),
+        density=water.density,
+        vapour_pressure=water.vapour_pressure,
+        atmospheric=STANDARD_ATMOSPHERE,
+    )
     return net, sized, ids
 
 
@@ -142,37 +178,76 @@ def default_duration(event: ValveEvent) -> float:
     return max(0.1, event.closure_time + 10 * max(event.critical_time, 1e-3))
 
 
-def run_event(analysis: Analysis, event: ValveEvent, duration: float | None = None,
-              progress: Callable[[float], None] | None = None,
-              whole_tree: bool = True) -> EventRun:
+def run_event(
+    analysis: Analysis,
+    event: ValveEvent,
+    duration: float | None = None,
+    progress: Callable[[float], None] | None = None,
+    whole_tree: bool = True,
+) -> EventRun:
     net, sized, ids = build_event_network(analysis, event, whole_tree)
     shortest = min(p.length / p.wave_speed for p in net.pipes)
     # resolve both the closure and the path's round trip in at least ~10 steps [D]
-    wanted = min(shortest, max(event.critical_time, 1e-4) / 20,
-                 event.closure_time / 10 if event.closure_time > 0 else shortest)
+    wanted = min(
+        shortest,
+        max(event.critical_time, 1e-4) / 20,
+        event.closure_time / 10 if event.closure_time > 0 else shortest,
+    )
     dt = shortest / math.ceil(shortest / wanted - 1e-9)
     result = simulate(net, duration or default_duration(event), dt=dt, progress=progress)
     shift = event.static_max - event.static_min
     path_ids = {analysis.layout.pipes[k].id for k in event.path}
-    path_max = {pid: float(result.pipe_max_pressure[i]) + shift
-                for i, pid in enumerate(ids) if pid in path_ids}
-    path_min = {pid: float(result.pipe_min_pressure[i])
-                for i, pid in enumerate(ids) if pid in path_ids}
+    path_max = {
+        pid: float(result.pipe_max_pressure[i]) + shift
+        for i, pid in enumerate(ids)
+        if pid in path_ids
+    }
+    path_min = {
+        pid: float(result.pipe_min_pressure[i]) for i, pid in enumerate(ids) if pid in path_ids
+    }
     peak = float(result.peak_pressure) + shift
     return EventRun(event, result, peak, float(result.min_pressure), path_max, path_min, sized)
 
 
-def apply_transient(analysis: Analysis, quick_only: bool = True) -> None:
-    """Replace the screening peak/min of each (quick) valve event with the simulated ones."""
-    for event in analysis.surge.events:
-        if quick_only and not event.quick:
-            continue
-        run = run_event(analysis, event, whole_tree=False)
-        event.method = "transient (path model)"
-        event.unprotected_peak = run.peak
-        event.peak = run.peak
-        event.surge = run.peak - event.static_max
-        event.min_pressure = run.minimum
-        event.column_separation = run.result.cavitation
-        if not math.isfinite(event.peak):  # pragma: no cover - solver guards this
+_WORK: Analysis | None = None  # the analysis a forked worker process reads
+
+
+def _run_index(index: int) -> tuple[float, float, bool]:
+    assert _WORK is not None
+    run = run_event(_WORK, _WORK.surge.events[index], whole_tree=False)
+    return run.peak, run.minimum, bool(run.result.cavitation)
+
+
+def apply_transient(
+    analysis: Analysis, quick_only: bool = True, workers: int | None = None
+) -> None:
+    """Replace the screening peak/min of each (quick) valve event with the simulated ones.
+
+    Events are independent, so a large building spreads them over the machine's cores
+    (forked workers); results are applied in event order, so the output does not depend
+    on the number of workers.
+    """
+    global _WORK
+    todo = [i for i, e in enumerate(analysis.surge.events) if e.quick or not quick_only]
+    workers = workers or min(os.cpu_count() or 1, 8)
+    _WORK = analysis
+    try:
+        if workers > 1 and len(todo) >= 40 and "fork" in mp.get_all_start_methods():
+            context = mp.get_context("fork")
+            with ProcessPoolExecutor(workers, mp_context=context) as pool:
+                outcomes = list(
+                    pool.map(_run_index, todo, chunksize=max(1, len(todo) // (workers * 8)))
+                )
+        else:
+            outcomes = [_run_index(i) for i in todo]
+    finally:
+        _WORK = None
+    for index, (peak, minimum, cavitation) in zip(todo, outcomes, strict=True):
+        event = analysis.surge.events[index]
+        if not math.isfinite(peak):
             raise RuntimeError(f"transient run for {event.fixture.id} diverged")
+        event.method = "transient (path model)"
+        event.unprotected_peak = event.peak = peak
+        event.surge = peak - event.static_max
+        event.min_pressure = minimum
+        event.column_separation = cavitation

@@ -20,17 +20,47 @@ import pint
 # Small lengths (diameters, walls, roughness) read bare numbers in inches / millimetres:
 # a bare "0.625" for a tube diameter in feet would surprise every designer.
 _SI_UNIT = {
-    "length": "m", "diameter": "m", "pressure": "Pa", "time": "s", "flow": "m**3/s",
-    "velocity": "m/s", "temperature": "K", "volume": "m**3",
+    "length": "m",
+    "diameter": "m",
+    "pressure": "Pa",
+    "time": "s",
+    "flow": "m**3/s",
+    "velocity": "m/s",
+    "temperature": "K",
+    "volume": "m**3",
 }
 BARE_UNIT = {
-    "us": {"length": "ft", "diameter": "in", "pressure": "psi", "time": "s", "flow": "gpm",
-           "velocity": "ft/s", "temperature": "degF", "volume": "gal"},
-    "si": {"length": "m", "diameter": "mm", "pressure": "kPa", "time": "s", "flow": "L/s",
-           "velocity": "m/s", "temperature": "degC", "volume": "L"},
+    "us": {
+        "length": "ft",
+        "diameter": "in",
+        "pressure": "psi",
+        "time": "s",
+        "flow": "gpm",
+        "velocity": "ft/s",
+        "temperature": "degF",
+        "volume": "gal",
+    },
+    "si": {
+        "length": "m",
+        "diameter": "mm",
+        "pressure": "kPa",
+        "time": "s",
+        "flow": "L/s",
+        "velocity": "m/s",
+        "temperature": "degC",
+        "volume": "L",
+    },
 }
-_EXAMPLE = {"length": "12 ft", "diameter": "0.625 in", "pressure": "65 psi", "time": "30 ms",
-            "flow": "2.5 gpm", "velocity": "8 ft/s", "temperature": "140 degF", "volume": "1 L"}
+_EXAMPLE = {
+    "length": "12 ft",
+    "diameter": "0.625 in",
+    "pressure": "65 psi",
+    "time": "30 ms",
+    "flow": "2.5 gpm",
+    "velocity": "8 ft/s",
+    "temperature": "140 degF",
+    "volume": "1 L",
+}
 
 _UNIT_TEXT = re.compile(r"^[A-Za-z°µ_][A-Za-z0-9°µ_ /*^.()-]*$")
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
@@ -101,8 +131,9 @@ def to_si(
         number = float(match.group(1))
         unit_text = match.group(2) or BARE_UNIT[system][kind]
         if not _UNIT_TEXT.match(unit_text):  # pint would quietly skip stray punctuation
-            raise QuantityError(f"unknown unit '{unit_text}'",
-                                f"write a {kind} such as '{_EXAMPLE[kind]}'")
+            raise QuantityError(
+                f"unknown unit '{unit_text}'", f"write a {kind} such as '{_EXAMPLE[kind]}'"
+            )
     else:
         number = float(value)
         unit_text = BARE_UNIT[system][kind]
@@ -122,10 +153,28 @@ def to_si(
 # ---- output ---------------------------------------------------------------------------
 
 DISPLAY_UNIT = {
-    "us": {"length": "ft", "pressure": "psi", "flow": "gpm", "velocity": "ft/s", "time": "s",
-           "temperature": "degF", "diameter": "in", "volume": "gal", "speed": "ft/s"},
-    "si": {"length": "m", "pressure": "kPa", "flow": "L/s", "velocity": "m/s", "time": "s",
-           "temperature": "degC", "diameter": "mm", "volume": "L", "speed": "m/s"},
+    "us": {
+        "length": "ft",
+        "pressure": "psi",
+        "flow": "gpm",
+        "velocity": "ft/s",
+        "time": "s",
+        "temperature": "degF",
+        "diameter": "in",
+        "volume": "gal",
+        "speed": "ft/s",
+    },
+    "si": {
+        "length": "m",
+        "pressure": "kPa",
+        "flow": "L/s",
+        "velocity": "m/s",
+        "time": "s",
+        "temperature": "degC",
+        "diameter": "mm",
+        "volume": "L",
+        "speed": "m/s",
+    },
 }
 _LABEL = {"degF": "°F", "degC": "°C"}
 

@@ -20,8 +20,17 @@ from rulecheck.pipeline import check_file  # noqa: E402
 
 def expected_for(sample: Path) -> list[dict[str, object]]:
     result = check_file(sample)
-    return [{"rule": f.rule, "severity": f.severity, "element": f.element, "line": f.line,
-             "column": f.column, "waived": f.waived is not None} for f in result.findings]
+    return [
+        {
+            "rule": f.rule,
+            "severity": f.severity,
+            "element": f.element,
+            "line": f.line,
+            "column": f.column,
+            "waived": f.waived is not None,
+        }
+        for f in result.findings
+    ]
 
 
 def main() -> None:

@@ -21,7 +21,8 @@ def test_stray_punctuation_is_not_a_unit(text: str) -> None:
 
 
 def test_stray_punctuation_is_reported_at_its_node(
-        write_layout: Callable[..., Path], capsys: pytest.CaptureFixture[str]) -> None:
+    write_layout: Callable[..., Path], capsys: pytest.CaptureFixture[str]
+) -> None:
     text = tweak(MINIMAL, ("length: 20 ft", "length: 20 ft!"))
     path = write_layout(text)
     assert main(["check", str(path)]) == 2
@@ -30,7 +31,8 @@ def test_stray_punctuation_is_reported_at_its_node(
 
 
 def test_wsfu_total_defaults_to_cold_plus_hot_in_layouts_and_catalog_entries(
-        write_layout: Callable[..., Path]) -> None:
+    write_layout: Callable[..., Path],
+) -> None:
     """One rule for a missing 'total' wherever a {cold, hot} mapping appears: the sum,
     which errs high against the IPC totals [D]."""
     local_type = """fixture_types:
@@ -40,9 +42,14 @@ def test_wsfu_total_defaults_to_cold_plus_hot_in_layouts_and_catalog_entries(
     min_pressure: 8 psi
     source: "test entry"
 """
-    text = tweak(MINIMAL, ("type: water-closet-tank, cold: J1,",
-                           "type: test-sink, wsfu: {cold: 2.0, hot: 1.0}, cold: J1,"),
-                 append=local_type)
+    text = tweak(
+        MINIMAL,
+        (
+            "type: water-closet-tank, cold: J1,",
+            "type: test-sink, wsfu: {cold: 2.0, hot: 1.0}, cold: J1,",
+        ),
+        append=local_type,
+    )
     analysis = analyse_file(write_layout(text))
     assert analysis.layout.fixtures[0].wsfu.total == pytest.approx(3.0)
     text = tweak(MINIMAL, ("type: water-closet-tank", "type: test-sink"), append=local_type)
@@ -51,21 +58,32 @@ def test_wsfu_total_defaults_to_cold_plus_hot_in_layouts_and_catalog_entries(
 
 
 def test_fixture_straight_on_a_heater_outlet_has_no_column_to_stop(
-        write_layout: Callable[..., Path]) -> None:
+    write_layout: Callable[..., Path],
+) -> None:
     """No pipe between the heater outlet and the valve: nothing to stop, so no surge and no
     arrester is demanded; the same appliance one pipe further on is demanded one."""
     text = tweak(
         MINIMAL,
-        ("  - {id: J1, elevation: 0 ft}", "  - {id: J1, elevation: 0 ft}\n  - {id: H0}\n  - {id: H1}"),
-        ("service: cold}", "service: cold}\n  - {id: P2, from: H0, to: H1, material: copper-l, "
-                           "size: 1/2, length: 30 ft, service: hot}"),
+        (
+            "  - {id: J1, elevation: 0 ft}",
+            "  - {id: J1, elevation: 0 ft}\n  - {id: H0}\n  - {id: H1}",
+        ),
+        (
+            "service: cold}",
+            "service: cold}\n  - {id: P2, from: H0, to: H1, material: copper-l, "
+            "size: 1/2, length: 30 ft, service: hot}",
+        ),
         append="heaters:\n  - {id: WH1, inlet: J1, outlet: H0}\n",
     )
-    on_outlet = tweak(text, ("fixtures:\n", "fixtures:\n  - {id: DW1, type: dishwasher, hot: H0}\n"))
+    on_outlet = tweak(
+        text, ("fixtures:\n", "fixtures:\n  - {id: DW1, type: dishwasher, hot: H0}\n")
+    )
     result = check_file(write_layout(on_outlet))
     event = next(e for e in result.analysis.surge.events if e.fixture.id == "DW1")
     assert event.path == [] and event.surge == 0.0 and not event.quick
     assert not [f for f in result.findings if f.element == "DW1"]
-    one_pipe_on = tweak(text, ("fixtures:\n", "fixtures:\n  - {id: DW1, type: dishwasher, hot: H1}\n"))
+    one_pipe_on = tweak(
+        text, ("fixtures:\n", "fixtures:\n  - {id: DW1, type: dishwasher, hot: H1}\n")
+    )
     result = check_file(write_layout(one_pipe_on, name="second.yaml"))
     assert "arrester-required" in {f.rule for f in result.findings if f.element == "DW1"}

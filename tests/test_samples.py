@@ -23,22 +23,44 @@ def test_sample_matches_expected(sample: Path, monkeypatch: pytest.MonkeyPatch) 
     monkeypatch.chdir(ROOT)
     expected = json.loads(sample.with_suffix(".expected.json").read_text(encoding="utf-8"))
     result = check_file(os.path.relpath(sample, ROOT))
-    got = [{"rule": f.rule, "severity": f.severity, "element": f.element, "line": f.line,
-            "column": f.column, "waived": f.waived is not None} for f in result.findings]
+    got = [
+        {
+            "rule": f.rule,
+            "severity": f.severity,
+            "element": f.element,
+            "line": f.line,
+            "column": f.column,
+            "waived": f.waived is not None,
+        }
+        for f in result.findings
+    ]
     assert got == expected
 
 
 def test_one_sample_is_clean() -> None:
-    clean = [s for s in SAMPLES
-             if json.loads(s.with_suffix(".expected.json").read_text(encoding="utf-8")) == []]
+    clean = [
+        s
+        for s in SAMPLES
+        if json.loads(s.with_suffix(".expected.json").read_text(encoding="utf-8")) == []
+    ]
     assert clean, "at least one sample must come out clean"
 
 
 def test_restaurant_and_clinic_exercise_every_surge_rule() -> None:
-    surge_rules = {"closure-time", "surge-peak", "column-separation", "arrester-required",
-                   "arrester-capacity", "arrester-kind"}
+    surge_rules = {
+        "closure-time",
+        "surge-peak",
+        "column-separation",
+        "arrester-required",
+        "arrester-capacity",
+        "arrester-kind",
+    }
     seen: set[str] = set()
     for name in ("corner-bistro", "fernhill-clinic"):
-        seen |= {f["rule"] for f in json.loads(
-            (ROOT / "samples" / f"{name}.expected.json").read_text(encoding="utf-8"))}
+        seen |= {
+            f["rule"]
+            for f in json.loads(
+                (ROOT / "samples" / f"{name}.expected.json").read_text(encoding="utf-8")
+            )
+        }
     assert surge_rules <= seen

@@ -54,6 +54,12 @@ def test_analyze_json_lists_valves(capsys: pytest.CaptureFixture[str]) -> None:
     (valve,) = data["valves"]
     assert valve["fixture"] == "DW1" and valve["side"] == "hot"
     assert valve["protected_by"] == "A1"
-    assert set(valve) >= {"closure_time", "critical_time", "surge", "peak_pressure",
-                          "min_pressure", "protected_by"}
+    assert set(valve) >= {
+        "closure_time",
+        "critical_time",
+        "surge",
+        "peak_pressure",
+        "min_pressure",
+        "protected_by",
+    }
     assert all("wave_speed" in p for p in data["pipes"].values())

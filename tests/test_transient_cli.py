@@ -18,7 +18,8 @@ def _fast_closing(tmp_path: Path, arrester: bool) -> Path:
     """The dishwasher case with a 5 ms solenoid: closure well inside 2L/a (22 ms)."""
     source = CASES / "surge-peak" / ("pass.yaml" if arrester else "fail.yaml")
     text = source.read_text(encoding="utf-8").replace(
-        "hot: H1}", "hot: H1, valve: {closure_time: 5 ms}}")
+        "hot: H1}", "hot: H1, valve: {closure_time: 5 ms}}"
+    )
     target = tmp_path / "dishwasher.yaml"
     target.write_text(text, encoding="utf-8")
     return target
@@ -30,7 +31,8 @@ def _simulate(path: Path, capsys: pytest.CaptureFixture[str]) -> dict:
 
 
 def test_peak_is_joukowsky_plus_static_within_3_percent(
-        tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
     """Joukowsky Δp = ρ·a·Δv for closure within 2L/a [S: Wylie & Streeter 1993]."""
     path = _fast_closing(tmp_path, arrester=False)
     analysis = analyse_file(path)
@@ -38,22 +40,36 @@ def test_peak_is_joukowsky_plus_static_within_3_percent(
     pipe = analysis.layout.pipes[event.path[0]]
     rho = analysis.water_for("hot").density
     expected = event.static_max + rho * float(analysis.surge.wave_speed[event.path[0]]) * (
-        event.flow / pipe.area)
+        event.flow / pipe.area
+    )
     data = _simulate(path, capsys)
-    first_wave = max(p for t, p in zip(data["trace"]["t"], data["trace"]["p"], strict=True)
-                     if t <= event.closure_time + event.critical_time)
+    first_wave = max(
+        p
+        for t, p in zip(data["trace"]["t"], data["trace"]["p"], strict=True)
+        if t <= event.closure_time + event.critical_time
+    )
     assert first_wave == pytest.approx(expected, rel=0.03)
     # the column then separates; the cavity's collapse may exceed the first wave
     # (Bergant, Simpson & Tijsseling 2006), so the overall peak is at least the first wave
     assert data["cavitation"] is True
     assert data["peak_pressure"] >= first_wave
-    assert set(data) >= {"valve", "side", "peak_pressure", "min_pressure", "time_of_peak",
-                         "cavitation", "dt", "max_wave_speed_adjustment", "trace"}
+    assert set(data) >= {
+        "valve",
+        "side",
+        "peak_pressure",
+        "min_pressure",
+        "time_of_peak",
+        "cavitation",
+        "dt",
+        "max_wave_speed_adjustment",
+        "trace",
+    }
     assert len(data["trace"]["t"]) == len(data["trace"]["p"]) > 10
 
 
 def test_sealed_arrester_at_the_valve_keeps_the_peak_under_150_psi(
-        tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
     data = _simulate(_fast_closing(tmp_path, arrester=True), capsys)
     assert data["peak_pressure"] < 150 * PSI
     assert data["cavitation"] is False
@@ -70,7 +86,8 @@ def test_csv_trace_and_bad_valve(tmp_path: Path, capsys: pytest.CaptureFixture[s
 
 
 def test_check_transient_says_which_method_gave_the_number(
-        tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
     path = _fast_closing(tmp_path, arrester=False)
     assert main(["check", str(path), "--transient", "--format", "json"]) == 1
     findings = json.loads(capsys.readouterr().out)["files"][0]["findings"]
@@ -78,5 +95,8 @@ def test_check_transient_says_which_method_gave_the_number(
     assert surge and all(f["method"].startswith("transient") for f in surge)
     assert main(["check", str(path), "--format", "json"]) == 1
     findings = json.loads(capsys.readouterr().out)["files"][0]["findings"]
-    assert all(f.get("method", "screening") == "screening" for f in findings
-               if f["rule"] in ("surge-peak", "column-separation"))
+    assert all(
+        f.get("method", "screening") == "screening"
+        for f in findings
+        if f["rule"] in ("surge-peak", "column-separation")
+    )

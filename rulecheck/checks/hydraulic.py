@@ -41,14 +41,20 @@ def velocity_limit(ctx: RuleContext) -> Iterator[Finding]:
             continue
         flow = float(analysis.flow[index])
         better = smallest_size_for(pipe, flow, limit)
-        fix = (f"use {pipe.material.id} {better} or larger" if better
-               else f"no {pipe.material.id} size carries this flow under the limit; split the flow")
+        fix = (
+            f"use {pipe.material.id} {better} or larger"
+            if better
+            else f"no {pipe.material.id} size carries this flow under the limit; split the flow"
+        )
         yield ctx.finding(
             pipe.id,
             f"{pipe.service} pipe {pipe.id} ({pipe.material.id} {pipe.size}) runs at "
             f"{ctx.fmt(velocity, 'velocity')} with {ctx.fmt(flow, 'flow')}, over the "
             f"{ctx.fmt(limit, 'velocity')} limit",
-            measured=velocity, limit=limit, kind="velocity", fix=fix,
+            measured=velocity,
+            limit=limit,
+            kind="velocity",
+            fix=fix,
         )
 
 
@@ -75,21 +81,30 @@ def static_pressure(ctx: RuleContext) -> Iterator[Finding]:
                 continue
             index = tree.parent.get(node)
             heater = network.heater_at_outlet.get(node)
-            upstream = layout.pipes[index].start if index is not None else (
-                heater.inlet if heater else None)
+            upstream = (
+                layout.pipes[index].start
+                if index is not None
+                else (heater.inlet if heater else None)
+            )
             if upstream is not None and static.get(upstream, 0.0) > limit:
                 continue  # reported at the first point over the limit upstream
             count, worst, where = below.get(node, (0, -math.inf, ""))
-            extra = (f"; {count} more points downstream also exceed it, highest "
-                     f"{ctx.fmt(worst, 'pressure')} at {where}" if count else "")
+            extra = (
+                f"; {count} more points downstream also exceed it, highest "
+                f"{ctx.fmt(worst, 'pressure')} at {where}"
+                if count
+                else ""
+            )
             feed = f" on pipe {layout.pipes[index].id}" if index is not None else ""
             yield ctx.finding(
                 node,
                 f"static pressure at {node} reaches {ctx.fmt(static[node], 'pressure')}, over "
                 f"the {ctx.fmt(limit, 'pressure')} limit{extra}",
-                measured=static[node], limit=limit, kind="pressure",
+                measured=static[node],
+                limit=limit,
+                kind="pressure",
                 fix=f"add a pressure-reducing valve{feed} set to "
-                    f"{ctx.fmt(limit, 'pressure')} or less",
+                f"{ctx.fmt(limit, 'pressure')} or less",
             )
 
 
@@ -105,7 +120,9 @@ def residual_pressure(ctx: RuleContext) -> Iterator[Finding]:
             fixture.id,
             f"fixture {fixture.id} ({fixture.type.id}) gets {ctx.fmt(pressure, 'pressure')} on "
             f"its {side} side at design flow; it needs {ctx.fmt(need, 'pressure')}",
-            measured=pressure, limit=need, kind="pressure",
+            measured=pressure,
+            limit=need,
+            kind="pressure",
             fix=f"find {ctx.fmt(short, 'pressure')} more: larger pipes on the path, a lower "
-                "loss device, or a booster",
+            "loss device, or a booster",
         )

@@ -16,8 +16,10 @@ def _events(ctx: RuleContext) -> list[ValveEvent]:
 
 
 def _valve(ctx: RuleContext, e: ValveEvent) -> str:
-    return (f"{e.fixture.id} ({e.fixture.type.id}, {e.side}) closes in "
-            f"{_ms(e.closure_time)}, critical time {_ms(e.critical_time)}")
+    return (
+        f"{e.fixture.id} ({e.fixture.type.id}, {e.side}) closes in "
+        f"{_ms(e.closure_time)}, critical time {_ms(e.critical_time)}"
+    )
 
 
 def _ms(seconds: float) -> str:
@@ -28,8 +30,10 @@ def _suggestion(ctx: RuleContext, e: ValveEvent) -> str:
     reach = ctx.analysis.profile.arrester_distance
     units = wsfu_within(ctx.analysis, e.point, e.side, reach)
     cls = smallest_class_for(units) or "F (or several)"
-    return (f"a sealed class {cls} arrester at {e.point} would serve {units:.1f} WSFU "
-            f"within {ctx.fmt(reach, 'length')}")
+    return (
+        f"a sealed class {cls} arrester at {e.point} would serve {units:.1f} WSFU "
+        f"within {ctx.fmt(reach, 'length')}"
+    )
 
 
 def closure_time(ctx: RuleContext) -> Iterator[Finding]:
@@ -38,19 +42,27 @@ def closure_time(ctx: RuleContext) -> Iterator[Finding]:
         if e.protected_by or e.closure_time > e.critical_time:
             continue
         if e.unprotected_peak <= limit:
-            outcome = (f"the full Joukowsky surge {ctx.fmt(e.surge, 'pressure')} arrives "
-                       f"(peak {ctx.fmt(e.unprotected_peak, 'pressure')}, under the "
-                       f"{ctx.fmt(limit, 'pressure')} limit)")
+            outcome = (
+                f"the full Joukowsky surge {ctx.fmt(e.surge, 'pressure')} arrives "
+                f"(peak {ctx.fmt(e.unprotected_peak, 'pressure')}, under the "
+                f"{ctx.fmt(limit, 'pressure')} limit)"
+            )
             fix = "an arrester still softens the shock: " + _suggestion(ctx, e)
         else:
             safe = max(e.min_safe_closure, e.critical_time)
-            outcome = (f"the full Joukowsky surge {ctx.fmt(e.surge, 'pressure')} arrives; "
-                       f"closing in {_ms(safe)} or longer keeps the peak under "
-                       f"{ctx.fmt(limit, 'pressure')}")
+            outcome = (
+                f"the full Joukowsky surge {ctx.fmt(e.surge, 'pressure')} arrives; "
+                f"closing in {_ms(safe)} or longer keeps the peak under "
+                f"{ctx.fmt(limit, 'pressure')}"
+            )
             fix = f"a valve closing in {_ms(safe)} or more, or " + _suggestion(ctx, e)
         yield ctx.finding(
-            e.fixture.id, f"valve {_valve(ctx, e)}: a quick closure; {outcome}",
-            measured=e.closure_time, limit=e.critical_time, kind="time", method=e.method,
+            e.fixture.id,
+            f"valve {_valve(ctx, e)}: a quick closure; {outcome}",
+            measured=e.closure_time,
+            limit=e.critical_time,
+            kind="time",
+            method=e.method,
             fix=fix,
         )
 
@@ -64,7 +76,10 @@ def surge_peak(ctx: RuleContext) -> Iterator[Finding]:
                 f"valve {_valve(ctx, e)}: surge {ctx.fmt(e.surge, 'pressure')}, peak "
                 f"{ctx.fmt(e.peak, 'pressure')} over the {ctx.fmt(e.lowest_rating, 'pressure')} "
                 f"rating of pipe {e.lowest_rating_pipe} at its temperature ({e.method})",
-                measured=e.peak, limit=e.lowest_rating, kind="pressure", severity="hazard",
+                measured=e.peak,
+                limit=e.lowest_rating,
+                kind="pressure",
+                severity="hazard",
                 method=e.method,
                 fix="protect the valve with a sealed arrester and use pipe rated for the peak",
             )
@@ -73,10 +88,17 @@ def surge_peak(ctx: RuleContext) -> Iterator[Finding]:
                 e.fixture.id,
                 f"valve {_valve(ctx, e)}: surge {ctx.fmt(e.surge, 'pressure')}, peak "
                 f"{ctx.fmt(e.peak, 'pressure')} over the {ctx.fmt(limit, 'pressure')} limit "
-                f"({e.method}), " + (f"with arrester {e.protected_by}" if e.protected_by else
-                f"no sealed arrester within "
-                f"{ctx.fmt(ctx.analysis.profile.arrester_distance, 'length')}"),
-                measured=e.peak, limit=limit, kind="pressure", method=e.method,
+                f"({e.method}), "
+                + (
+                    f"with arrester {e.protected_by}"
+                    if e.protected_by
+                    else f"no sealed arrester within "
+                    f"{ctx.fmt(ctx.analysis.profile.arrester_distance, 'length')}"
+                ),
+                measured=e.peak,
+                limit=limit,
+                kind="pressure",
+                method=e.method,
                 fix=_suggestion(ctx, e),
             )
 
@@ -92,7 +114,10 @@ def column_separation(ctx: RuleContext) -> Iterator[Finding]:
             f"valve {_valve(ctx, e)}: the pressure wave drops {e.point} to "
             f"{ctx.fmt(e.min_pressure, 'pressure')} (gauge, {e.method}), down to vapour "
             "pressure: the column separates and its collapse can exceed the Joukowsky peak",
-            measured=e.min_pressure, limit=vapour_gauge, kind="pressure", method=e.method,
+            measured=e.min_pressure,
+            limit=vapour_gauge,
+            kind="pressure",
+            method=e.method,
             fix=_suggestion(ctx, e),
         )
 
@@ -102,15 +127,21 @@ def arrester_required(ctx: RuleContext) -> Iterator[Finding]:
     for e in _events(ctx):
         if not e.quick or e.protected_by:
             continue
-        chambers = (f"; air chamber {', '.join(e.nearby_air_chambers)} gives no credit"
-                    if e.nearby_air_chambers else "")
+        chambers = (
+            f"; air chamber {', '.join(e.nearby_air_chambers)} gives no credit"
+            if e.nearby_air_chambers
+            else ""
+        )
         yield ctx.finding(
             e.fixture.id,
             f"quick-closing valve {_valve(ctx, e)}: surge {ctx.fmt(e.surge, 'pressure')}, peak "
             f"{ctx.fmt(e.unprotected_peak, 'pressure')}, no sealed arrester within "
             f"{ctx.fmt(reach, 'length')}{chambers}",
-            measured=e.unprotected_peak, limit=ctx.analysis.profile.surge_limit, kind="pressure",
-            fix=_suggestion(ctx, e), method=e.method,
+            measured=e.unprotected_peak,
+            limit=ctx.analysis.profile.surge_limit,
+            kind="pressure",
+            fix=_suggestion(ctx, e),
+            method=e.method,
         )
 
 
@@ -134,7 +165,9 @@ def arrester_capacity(ctx: RuleContext) -> Iterator[Finding]:
             arrester.id,
             f"arrester {arrester.id} ({rating}) at {arrester.at} serves {total:.1f} WSFU "
             f"({names}): {why}",
-            measured=total, limit=arrester.capacity, kind="wsfu",
+            measured=total,
+            limit=arrester.capacity,
+            kind="wsfu",
             fix=f"use class {better}, or add a second arrester so the ratings add up",
         )
 
@@ -148,5 +181,6 @@ def arrester_kind(ctx: RuleContext) -> Iterator[Finding]:
             arrester.id,
             f"{arrester.id} at {arrester.at} is an air chamber: it waterlogs and gives no "
             f"protection once the air has dissolved (profile {ctx.analysis.profile.id})",
-            severity=severity, fix="replace it with a sealed, pre-charged arrester (ASSE 1010)",
+            severity=severity,
+            fix="replace it with a sealed, pre-charged arrester (ASSE 1010)",
         )

@@ -12,16 +12,27 @@ from rulecheck.units import fmt, to_si
 #: Profile parameters (rules/profiles.yaml) that act as a rule's limits: label, kind, and
 #: the source with its tag as rules/profiles.yaml gives it.
 PROFILE_PARAMETERS: dict[str, tuple[str, str, str]] = {
-    "surge_limit": ("design surge limit, peak pressure", "pressure",
-                    "ASSE 1010 arrester rating [S: ASSE 1010 summary]"),
-    "arrester_distance": ("arrester placement distance, along the pipe path", "length",
-                          "PDI-WH 201 placement; from memory; verify against the adopted "
-                          "edition [M]"),
-    "fittings_allowance": ("fittings allowance, fraction of developed length", "fraction",
-                           "common practice [CP]"),
-    "air_chamber_severity": ("severity given to an air chamber", "text",
-                             'air chambers no longer recognised by IPC/NSPC, tolerated by UPC '
-                             '[S: PM Magazine, "Water hammer update"]'),
+    "surge_limit": (
+        "design surge limit, peak pressure",
+        "pressure",
+        "ASSE 1010 arrester rating [S: ASSE 1010 summary]",
+    ),
+    "arrester_distance": (
+        "arrester placement distance, along the pipe path",
+        "length",
+        "PDI-WH 201 placement; from memory; verify against the adopted edition [M]",
+    ),
+    "fittings_allowance": (
+        "fittings allowance, fraction of developed length",
+        "fraction",
+        "common practice [CP]",
+    ),
+    "air_chamber_severity": (
+        "severity given to an air chamber",
+        "text",
+        "air chambers no longer recognised by IPC/NSPC, tolerated by UPC "
+        '[S: PM Magazine, "Water hammer update"]',
+    ),
 }
 #: Which of them each rule reads (see rulecheck/checks and rulecheck/surge_analysis.py).
 RULE_PROFILE_PARAMETERS: dict[str, tuple[str, ...]] = {
@@ -61,8 +72,14 @@ def rules_table() -> str:
 
 
 def explain_text(spec: RuleSpec, profile: str, units: str, worked: str = "") -> str:
-    out = [f"{spec.id} — {spec.title}", f"default severity: {spec.severity}", "",
-           "Why:", _indent(spec.rationale), ""]
+    out = [
+        f"{spec.id} — {spec.title}",
+        f"default severity: {spec.severity}",
+        "",
+        "Why:",
+        _indent(spec.rationale),
+        "",
+    ]
     if spec.formula:
         out += ["Formula:", _indent(spec.formula), ""]
     limits = spec.raw_limits(profile)
@@ -73,19 +90,37 @@ def explain_text(spec: RuleSpec, profile: str, units: str, worked: str = "") -> 
     shared = RULE_PROFILE_PARAMETERS.get(spec.id, ())
     if shared:
         out.append(f"From the profile {profile} (rules/profiles.yaml):")
-        out += [f"  {PROFILE_PARAMETERS[name][0]}: {show_profile_parameter(name, profile, units)}"
-                f"  [{PROFILE_PARAMETERS[name][2]}]" for name in shared]
+        out += [
+            f"  {PROFILE_PARAMETERS[name][0]}: {show_profile_parameter(name, profile, units)}"
+            f"  [{PROFILE_PARAMETERS[name][2]}]"
+            for name in shared
+        ]
         out.append("")
     if worked:
-        out += ["Worked example (computed by rulecheck on a small built-in layout):",
-                _indent(worked), ""]
+        out += [
+            "Worked example (computed by rulecheck on a small built-in layout):",
+            _indent(worked),
+            "",
+        ]
     out += ["Source:", _indent(spec.source), "", "Fix:", _indent(spec.fix), ""]
-    example = next(((name, f'"{raw}"' if isinstance(raw, str) else raw)
-                    for name, raw in limits.items() if isinstance(raw, (str, int, float))), None)
-    setting = (f"limits = {{ {example[0]} = {example[1]} }}" if example
-               else f'severity = "{spec.severity}"')
-    out += ["For one project (rulecheck.toml):",
-            _indent(f"[rules.{spec.id}]\n{setting}    # or: enabled = false"), ""]
+    example = next(
+        (
+            (name, f'"{raw}"' if isinstance(raw, str) else raw)
+            for name, raw in limits.items()
+            if isinstance(raw, (str, int, float))
+        ),
+        None,
+    )
+    setting = (
+        f"limits = {{ {example[0]} = {example[1]} }}"
+        if example
+        else f'severity = "{spec.severity}"'
+    )
+    out += [
+        "For one project (rulecheck.toml):",
+        _indent(f"[rules.{spec.id}]\n{setting}    # or: enabled = false"),
+        "",
+    ]
     for key in ("failing", "passing"):
         if key in spec.examples:
             out += [f"A {key} layout snippet:", _indent(spec.examples[key].rstrip()), ""]

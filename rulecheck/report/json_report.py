@@ -11,17 +11,31 @@ from rulecheck.findings import SEVERITIES, Finding, _clean
 from rulecheck.report.text import summary_counts
 
 
-def check_document(results: list[tuple[str, str, list[Finding]]],
-                   errors: list[InputError], hidden: int | None = None) -> dict[str, Any]:
+def check_document(
+    results: list[tuple[str, str, list[Finding]]],
+    errors: list[InputError],
+    hidden: int | None = None,
+) -> dict[str, Any]:
     """The check report; ``hidden`` (findings the baseline hid) appears when a baseline was used."""
     files: list[dict[str, Any]] = [
         {"path": path, "profile": profile, "findings": [f.to_dict() for f in findings]}
         for path, profile, findings in results
     ]
     for error in errors:
-        files.append({"path": error.problems[0].path, "errors": [
-            {"line": p.position.line, "column": p.position.column, "message": p.message,
-             "hint": p.hint} for p in error.problems]})
+        files.append(
+            {
+                "path": error.problems[0].path,
+                "errors": [
+                    {
+                        "line": p.position.line,
+                        "column": p.position.column,
+                        "message": p.message,
+                        "hint": p.hint,
+                    }
+                    for p in error.problems
+                ],
+            }
+        )
     every = [f for _, _, findings in results for f in findings]
     counts = summary_counts(every)
     summary: dict[str, Any] = {s: counts.get(s, 0) for s in SEVERITIES}
@@ -35,11 +49,21 @@ def valve_records(analysis: Analysis) -> list[dict[str, Any]]:
     """The ``valves`` list of ``analyze --format json`` (SI)."""
     if analysis.surge is None:
         return []
-    return [{"fixture": e.fixture.id, "side": e.side, "closure_time": _clean(e.closure_time),
-             "critical_time": _clean(e.critical_time), "surge": _clean(e.surge),
-             "peak_pressure": _clean(e.peak), "min_pressure": _clean(e.min_pressure),
-             "protected_by": e.protected_by, "quick": e.quick, "method": e.method}
-            for e in analysis.surge.events]
+    return [
+        {
+            "fixture": e.fixture.id,
+            "side": e.side,
+            "closure_time": _clean(e.closure_time),
+            "critical_time": _clean(e.critical_time),
+            "surge": _clean(e.surge),
+            "peak_pressure": _clean(e.peak),
+            "min_pressure": _clean(e.min_pressure),
+            "protected_by": e.protected_by,
+            "quick": e.quick,
+            "method": e.method,
+        }
+        for e in analysis.surge.events
+    ]
 
 
 def analysis_document(analysis: Analysis) -> dict[str, Any]:
@@ -47,21 +71,24 @@ def analysis_document(analysis: Analysis) -> dict[str, Any]:
     wave_speed = analysis.surge.wave_speed if analysis.surge is not None else None
     pipes: dict[str, Any] = {}
     for i, pipe in enumerate(layout.pipes):
-        entry = {"flow": _clean(float(analysis.flow[i])),
-                 "velocity": _clean(float(analysis.velocity[i])),
-                 "head_loss": _clean(float(analysis.friction_drop[i])),
-                 "wsfu": _clean(float(analysis.wsfu[i]))}
+        entry = {
+            "flow": _clean(float(analysis.flow[i])),
+            "velocity": _clean(float(analysis.velocity[i])),
+            "head_loss": _clean(float(analysis.friction_drop[i])),
+            "wsfu": _clean(float(analysis.wsfu[i])),
+        }
         if wave_speed is not None:
             entry["wave_speed"] = _clean(float(wave_speed[i]))
         pipes[pipe.id] = entry
     points = {
-        node: {"static_pressure_max": _clean(analysis.static_max[node]),
-               "static_pressure_min": _clean(analysis.static_min[node]),
-               "residual_pressure": _clean(analysis.residual[node])}
+        node: {
+            "static_pressure_max": _clean(analysis.static_max[node]),
+            "static_pressure_min": _clean(analysis.static_min[node]),
+            "residual_pressure": _clean(analysis.residual[node]),
+        }
         for node in sorted(analysis.static_max)
     }
-    document: dict[str, Any] = {"version": 1, "path": layout.path, "pipes": pipes,
-                                "points": points}
+    document: dict[str, Any] = {"version": 1, "path": layout.path, "pipes": pipes, "points": points}
     document["valves"] = valve_records(analysis)
     return document
 

@@ -10,24 +10,31 @@ from rich.markup import escape
 from rulecheck.findings import SEVERITIES, Finding
 from rulecheck.report import CAUTION
 
-_STYLE = {"hazard": "bold magenta", "violation": "bold red", "caution": "yellow",
-          "advisory": "cyan"}
+_STYLE = {
+    "hazard": "bold magenta",
+    "violation": "bold red",
+    "caution": "yellow",
+    "advisory": "cyan",
+}
 
 
 def finding_line(f: Finding) -> str:
     """``path:line:col  severity  rule-id  message  [source]`` as rich markup."""
     waived = f" [dim](waived: {escape(f.waived)})[/dim]" if f.waived is not None else ""
     fix = f" [dim]→ {escape(f.fix)}[/dim]" if f.fix else ""
-    return (f"{escape(f.path)}:{f.line}:{f.column}  [{_STYLE[f.severity]}]{f.severity}[/]  "
-            f"{f.rule}  {escape(f.message)}{fix}{waived}  [dim]\\[{escape(f.source)}][/dim]")
+    return (
+        f"{escape(f.path)}:{f.line}:{f.column}  [{_STYLE[f.severity]}]{f.severity}[/]  "
+        f"{f.rule}  {escape(f.message)}{fix}{waived}  [dim]\\[{escape(f.source)}][/dim]"
+    )
 
 
 def summary_counts(findings: list[Finding]) -> Counter[str]:
     return Counter(f.severity for f in findings if f.waived is None)
 
 
-def render_check(console: Console, results: list[tuple[str, list[Finding]]],
-                 failed: list[str], hidden: int = 0) -> None:
+def render_check(
+    console: Console, results: list[tuple[str, list[Finding]]], failed: list[str], hidden: int = 0
+) -> None:
     every: list[Finding] = []
     for _path, findings in results:
         for f in findings:

@@ -27,8 +27,10 @@ def _surge_steps(a: Analysis, units: str) -> list[str]:
     pipe = a.layout.pipes[e.path[0]]
     speed = float(a.surge.wave_speed[e.path[0]])
     dv = e.flow / pipe.area
+
     def f(value: float, kind: str) -> str:
         return fmt(value, kind, units)
+
     joukowsky = water.density * speed * dv
     return [
         f"Dishwasher DW1 (solenoid, closes in {e.closure_time * 1000:.0f} ms) at the end of "
@@ -42,7 +44,8 @@ def _surge_steps(a: Analysis, units: str) -> list[str]:
         f"Joukowsky ρ·a·Δv = {f(joukowsky, 'pressure')}; closure {e.closure_time * 1000:.0f} ms "
         f"{'≤' if e.closure_time <= e.critical_time else '>'} T_c, so the surge is "
         f"{f(e.surge, 'pressure')}",
-        f"peak = static max {f(e.static_max, 'pressure')} + surge = {f(e.unprotected_peak, 'pressure')}"
+        f"peak = static max {f(e.static_max, 'pressure')} + surge = "
+        f"{f(e.unprotected_peak, 'pressure')}"
         f" (limit {f(a.profile.surge_limit, 'pressure')})",
         f"minimum = static min {f(e.static_min, 'pressure')} − surge = "
         f"{f(e.min_pressure, 'pressure')} gauge → column separation: "
@@ -64,8 +67,10 @@ def _velocity_steps(a: Analysis, units: str) -> list[str]:
 
 
 STEPS: dict[str, Callable[[Analysis, str], list[str]]] = {
-    "closure-time": _surge_steps, "surge-peak": _surge_steps,
-    "column-separation": _surge_steps, "arrester-required": _surge_steps,
+    "closure-time": _surge_steps,
+    "surge-peak": _surge_steps,
+    "column-separation": _surge_steps,
+    "arrester-required": _surge_steps,
     "velocity-limit": _velocity_steps,
 }
 
@@ -82,6 +87,5 @@ def worked_example(rule_id: str, units: str) -> str:
     found = [f for f in run_rules(analysis) if f.rule == rule_id]
     if found:
         lines.append("rulecheck reports:")
-        lines += [f"  {f.severity}: {f.message}" + (f" → {f.fix}" if f.fix else "")
-                  for f in found]
+        lines += [f"  {f.severity}: {f.message}" + (f" → {f.fix}" if f.fix else "") for f in found]
     return "\n".join(lines)
