@@ -106,7 +106,7 @@ def read_baseline(source: str | Path) -> Counter[Key]:
                 f"entry {number} of the baseline is malformed",
                 "each entry needs path, rule, element (text) and count (>= 1)",
             )
-        counts[fields[0], fields[1], fields[2]] += count
+        counts[str(fields[0]), str(fields[1]), str(fields[2])] += count
     return counts
 
 

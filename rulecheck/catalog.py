@@ -6,9 +6,10 @@ explicit units; project-local ones may use bare numbers in the project's units.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import cache
-from typing import Any
+from typing import Any, TypeVar
 
 from rulecheck.errors import InputError, ProblemCollector
 from rulecheck.loader import Document, JsonPath, parse_text
@@ -131,24 +132,48 @@ def wsfu_from(values: dict[str, float]) -> Wsfu:
     return Wsfu(cold, hot, float(values.get("total", cold + hot)))
 
 
+Entry = TypeVar("Entry", Material, FixtureType)
+
+
+def _read_entries(
+    reader: Reader,
+    key: str,
+    read: Callable[[Reader, dict[str, Any], JsonPath], Entry | None],
+    builtin: dict[str, Entry] | None = None,
+) -> dict[str, Entry]:
+    """Read the ``key`` list of ``reader.doc`` by id. With ``builtin`` given (project-local
+    entries), an id that clashes with a built-in one needs ``replaces: true``."""
+    doc = reader.doc
+    found: dict[str, Entry] = {}
+    for i, entry in enumerate(doc.data.get(key, [])):
+        path: JsonPath = (key, i)
+        if builtin is not None and entry["id"] in builtin and not entry.get("replaces", False):
+            reader.problems.add(
+                doc.where((*path, "id")),
+                f"'{entry['id']}' is a built-in {key[:-1].replace('_', ' ')} id",
+                "choose another id, or add 'replaces: true' to replace the built-in entry",
+            )
+            continue
+        item = read(reader, entry, path)
+        if item is not None:
+            found[item.id] = item
+    return found
+
+
+def _builtin_file(filename: str) -> Reader:
+    doc = parse_text(read_text("rules", filename), f"rules/{filename}")
+    return Reader(doc, "si", ProblemCollector(doc.path))
+
+
 @cache
 def builtin_catalog() -> Catalog:
     """The catalog shipped in ``rules/`` (a defect in it is a packaging error, not user input)."""
-    materials: dict[str, Material] = {}
-    fixture_types: dict[str, FixtureType] = {}
-    for filename, key, reader_fn, target in (
-        (MATERIALS_FILE, "materials", read_material, materials),
-        (FIXTURE_TYPES_FILE, "fixture_types", read_fixture_type, fixture_types),
-    ):
-        doc = parse_text(read_text("rules", filename), f"rules/{filename}")
-        problems = ProblemCollector(doc.path)
-        reader = Reader(doc, "si", problems)
-        for i, entry in enumerate(doc.data[key]):
-            item = reader_fn(reader, entry, (key, i))
-            if item is not None:
-                target[item.id] = item  # type: ignore[index]
+    materials_file, types_file = _builtin_file(MATERIALS_FILE), _builtin_file(FIXTURE_TYPES_FILE)
+    materials = _read_entries(materials_file, "materials", read_material)
+    fixture_types = _read_entries(types_file, "fixture_types", read_fixture_type)
+    for reader in (materials_file, types_file):
         try:
-            problems.raise_if_any()
+            reader.problems.raise_if_any()
         except InputError as exc:
             raise RuntimeError(f"built-in catalog is broken: {exc}") from None
     return Catalog(materials, fixture_types)
@@ -157,24 +182,13 @@ def builtin_catalog() -> Catalog:
 def project_catalog(doc: Document, system: str, problems: ProblemCollector) -> Catalog:
     """Built-in catalog plus the layout's own ``materials`` and ``fixture_types``."""
     base = builtin_catalog()
-    materials = dict(base.materials)
-    fixture_types = dict(base.fixture_types)
     reader = Reader(doc, system, problems)
-    for key, reader_fn, target in (
-        ("materials", read_material, materials),
-        ("fixture_types", read_fixture_type, fixture_types),
-    ):
-        for i, entry in enumerate(doc.data.get(key, [])):
-            path = (key, i)
-            builtin = entry["id"] in (base.materials if key == "materials" else base.fixture_types)
-            if builtin and not entry.get("replaces", False):
-                problems.add(
-                    doc.where((*path, "id")),
-                    f"'{entry['id']}' is a built-in {key[:-1].replace('_', ' ')} id",
-                    "choose another id, or add 'replaces: true' to replace the built-in entry",
-                )
-                continue
-            item = reader_fn(reader, entry, path)
-            if item is not None:
-                target[item.id] = item  # type: ignore[index]
+    materials = {
+        **base.materials,
+        **_read_entries(reader, "materials", read_material, base.materials),
+    }
+    fixture_types = {
+        **base.fixture_types,
+        **_read_entries(reader, "fixture_types", read_fixture_type, base.fixture_types),
+    }
     return Catalog(materials, fixture_types)

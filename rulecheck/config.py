@@ -196,30 +196,34 @@ def parse_config(text: str, path: Path, name: str | None = None) -> Config:
         rules = {}
     specs = rule_specs()
     for rule_id, table in rules.items():
-        key = ("rules", rule_id)
+        rule_key = ("rules", rule_id)
         if rule_id not in specs:
-            problem(key, f"unknown rule '{rule_id}'", _known(rule_id, specs))
+            problem(rule_key, f"unknown rule '{rule_id}'", _known(rule_id, specs))
             continue
         if not isinstance(table, dict):
-            problem(key, f"[rules.{rule_id}] should be a table", "keys: enabled, severity, limits")
+            problem(
+                rule_key, f"[rules.{rule_id}] should be a table", "keys: enabled, severity, limits"
+            )
             continue
         for item in table:
             if item not in _RULE_KEYS:
                 problem(
-                    (*key, item),
+                    (*rule_key, item),
                     f"unknown key '{item}' in [rules.{rule_id}]",
                     _known(item, _RULE_KEYS),
                 )
         if "enabled" in table:
             if not isinstance(table["enabled"], bool):
-                problem((*key, "enabled"), "'enabled' should be true or false")
+                problem((*rule_key, "enabled"), "'enabled' should be true or false")
             elif not table["enabled"]:
                 disabled.add(rule_id)
-        level = _choice(table, "severity", SEVERITIES, problem, key)
+        level = _choice(table, "severity", SEVERITIES, problem, rule_key)
         if level is not None:
             severity[rule_id] = level
         if "limits" in table:
-            limits[rule_id] = _limits(specs[rule_id], table["limits"], (*key, "limits"), problem)
+            limits[rule_id] = _limits(
+                specs[rule_id], table["limits"], (*rule_key, "limits"), problem
+            )
     problems.raise_if_any()
     return Config(
         path=path,

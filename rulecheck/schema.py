@@ -129,7 +129,7 @@ def _a(expected: Any) -> str:
         "boolean": "true or false",
     }
     if isinstance(expected, list):
-        return " or ".join(names.get(e, e) for e in expected)
+        return " or ".join(names.get(e, str(e)) for e in expected)
     return names.get(expected, str(expected))
 
 

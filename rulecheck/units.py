@@ -76,7 +76,7 @@ class QuantityError(ValueError):
 
 @cache
 def registry() -> pint.UnitRegistry:
-    ureg = pint.UnitRegistry()
+    ureg: pint.UnitRegistry = pint.UnitRegistry()
     ureg.define("gallon_per_minute = gallon / minute = gpm")
     return ureg
 
