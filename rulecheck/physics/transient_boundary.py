@@ -156,6 +156,11 @@ class ArresterState:
     volume: float  # [m^3]
     flow: float = 0.0  # liquid flow into the arrester at the last step [m^3/s]
     on_stop: bool = False
+    previous: float = math.nan  # gas volume one step before ``volume`` [m^3]
+
+    def __post_init__(self) -> None:
+        if math.isnan(self.previous):
+            self.previous = self.volume
 
     def head_of(self, volume: float, rho_g: float, p_atm: float) -> float:
         """Node head [m] for a gas volume [m^3]."""
@@ -179,8 +184,11 @@ class ArresterState:
                 return h0
             self.on_stop = False
             self.flow = 0.0
+            self.previous = self.volume
         v_old, q_old, n, k = self.volume, self.flow, self.exponent, self.constant
-        v = v_old
+        # start from the trend of the last two steps: Newton then needs one or two turns
+        v = min(max(v_old + (v_old - self.previous), 0.5 * v_old), self.v_max)
+        self.previous = v_old
         for _ in range(60):
             h = self.head_of(v, rho_g, p_atm)
             dh_dv = -n * k * v ** (-n - 1.0) / rho_g
@@ -193,7 +201,7 @@ class ArresterState:
             v_new = v - f / df
             if v_new <= 0.0:
                 v_new = 0.5 * v
-            done = abs(v_new - v) <= 1e-13 * self.v_max
+            done = abs(v_new - v) <= 1e-11 * self.v_max  # relative pressure error ~1e-11
             v = v_new
             if done:
                 break
