@@ -344,6 +344,15 @@ def parse_text(text: str, path: str) -> Document:
     return doc
 
 
+def _too_deep(path: str) -> InputError:
+    return InputError.at(
+        path,
+        Position(1, 1),
+        "the YAML is nested too deeply",
+        "a layout needs only a few levels of nesting",
+    )
+
+
 def _parse_composed(text: str, path: str) -> Document:
     """The node-graph reader (PyYAML's composer), for what the event reader hands over."""
     try:
@@ -367,12 +376,7 @@ def _parse_composed(text: str, path: str) -> Document:
     except yaml.YAMLError as exc:
         raise InputError.at(path, Position(1, 1), f"YAML syntax: {exc}") from None
     except RecursionError:
-        raise InputError.at(
-            path,
-            Position(1, 1),
-            "the YAML is nested too deeply",
-            "a layout needs only a few levels of nesting",
-        ) from None
+        raise _too_deep(path) from None
     if root is None:
         raise InputError.at(
             path, Position(1, 1), "the file is empty", "start with 'version: 1' and 'project:'"
@@ -382,12 +386,7 @@ def _parse_composed(text: str, path: str) -> Document:
     try:
         doc.data = _Builder(doc, problems).build(root, ())
     except RecursionError:
-        raise InputError.at(
-            path,
-            Position(1, 1),
-            "the YAML is nested too deeply",
-            "a layout needs only a few levels of nesting",
-        ) from None
+        raise _too_deep(path) from None
     problems.raise_if_any()
     return doc
 

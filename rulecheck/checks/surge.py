@@ -6,6 +6,7 @@ from collections.abc import Iterator
 
 from rulecheck.engine import RuleContext
 from rulecheck.findings import Finding
+from rulecheck.physics.surge import STANDARD_ATMOSPHERE
 from rulecheck.profiles import aa_appliances, smallest_class_for
 from rulecheck.surge_analysis import ValveEvent, arrester_capacity_ok, wsfu_within
 
@@ -108,7 +109,7 @@ def column_separation(ctx: RuleContext) -> Iterator[Finding]:
         if not e.column_separation:
             continue
         water = ctx.analysis.water_for(e.side)
-        vapour_gauge = water.vapour_pressure - 101325.0
+        vapour_gauge = water.vapour_pressure - STANDARD_ATMOSPHERE
         yield ctx.finding(
             e.fixture.id,
             f"valve {_valve(ctx, e)}: the pressure wave drops {e.point} to "
