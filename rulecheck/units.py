@@ -62,6 +62,9 @@ _EXAMPLE = {
     "volume": "1 L",
 }
 
+# Beyond this in SI units no layout value makes sense (the largest real ones are wall
+# moduli, ~1e11 Pa); it also keeps the hydraulics clear of float overflow [D].
+_ABSURD = 1e15
 _UNIT_TEXT = re.compile(r"^[A-Za-z°µ_][A-Za-z0-9°µ_ /*^.()-]*$")
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
 
@@ -141,6 +144,11 @@ def to_si(
         raise QuantityError(f"{kind} must be a finite number", f"write e.g. '{_EXAMPLE[kind]}'")
     scale, offset = _affine(unit_text, kind)
     si = number * scale + offset
+    if abs(si) > _ABSURD:
+        raise QuantityError(
+            f"{value!r} is far outside the range of any building",
+            f"write a {kind} such as '{_EXAMPLE[kind]}'",
+        )
     if positive and not si > 0:
         raise QuantityError(f"{kind} must be greater than zero, got {value!r}")
     if nonnegative and si < 0:

@@ -87,3 +87,16 @@ def test_fixture_straight_on_a_heater_outlet_has_no_column_to_stop(
     )
     result = check_file(write_layout(one_pipe_on, name="second.yaml"))
     assert "arrester-required" in {f.rule for f in result.findings if f.element == "DW1"}
+
+
+def test_absurd_quantities_are_input_errors(
+    write_layout: Callable[..., Path], capsys: pytest.CaptureFixture[str]
+) -> None:
+    """1e300 gpm would overflow the friction; it is refused where it is written."""
+    text = tweak(MINIMAL, ("service: cold}", "service: cold, demand: 1e300 gpm}"))
+    path = write_layout(text)
+    assert main(["check", str(path)]) == 2
+    line, column = locate(text, "1e300 gpm")
+    err = capsys.readouterr().err
+    assert f"{path}:{line}:{column}: error:" in err and "far outside" in err
+    assert to_si("117 GPa", "pressure", "si") == pytest.approx(117e9)  # real moduli still pass
