@@ -33,6 +33,7 @@ from rulecheck.physics.transient import (
     TransientResult,
     simulate,
 )
+from rulecheck.physics.transient_grid import choose_time_step
 from rulecheck.surge_analysis import ValveEvent
 
 
@@ -173,6 +174,11 @@ def build_event_network(
     return net, sized, ids
 
 
+# Time resolution asked of every run, besides whole reaches in each pipe [D]:
+CLOSURE_STEPS = 10  # steps over the valve's closure
+ROUND_TRIP_STEPS = 20  # steps over the path's round trip 2L/a
+
+
 def default_duration(event: ValveEvent) -> float:
     """Closure plus ten round trips of the path, at least 0.1 s [D]."""
     return max(0.1, event.closure_time + 10 * max(event.critical_time, 1e-3))
@@ -187,13 +193,15 @@ def run_event(
 ) -> EventRun:
     net, sized, ids = build_event_network(analysis, event, whole_tree)
     shortest = min(p.length / p.wave_speed for p in net.pipes)
-    # resolve both the closure and the path's round trip in at least ~10 steps [D]
     wanted = min(
         shortest,
-        max(event.critical_time, 1e-4) / 20,
-        event.closure_time / 10 if event.closure_time > 0 else shortest,
+        max(event.critical_time, 1e-4) / ROUND_TRIP_STEPS,
+        event.closure_time / CLOSURE_STEPS if event.closure_time > 0 else shortest,
     )
-    dt = shortest / math.ceil(shortest / wanted - 1e-9)
+    # the solver's own search, with the wanted step as one more travel time: dt stays at or
+    # under it (within the search's few percent) and no pipe's wave speed moves more than that
+    travel = [p.length / p.wave_speed for p in net.pipes]
+    dt, _, _ = choose_time_step([*travel, wanted])
     result = simulate(net, duration or default_duration(event), dt=dt, progress=progress)
     shift = event.static_max - event.static_min
     path_ids = {analysis.layout.pipes[k].id for k in event.path}

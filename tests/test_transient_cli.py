@@ -100,3 +100,18 @@ def test_check_transient_says_which_method_gave_the_number(
         for f in findings
         if f["rule"] in ("surge-peak", "column-separation")
     )
+
+
+def test_wave_speed_adjustment_stays_within_a_few_percent_on_every_sample_valve() -> None:
+    """engineering-basis §10: each pipe gets whole reaches, adjusting a by at most a few
+    percent (5 % here), also when the adapter asks for a finer step than the pipes need."""
+    from rulecheck.transient_setup import run_event
+
+    samples = Path(__file__).resolve().parent.parent / "samples"
+    worst = 0.0
+    for sample in sorted(samples.glob("*.yaml")):
+        analysis = analyse_file(sample)
+        for event in (e for e in analysis.surge.events if e.quick):
+            run = run_event(analysis, event, whole_tree=False)
+            worst = max(worst, run.result.max_wave_speed_adjustment)
+    assert 0.0 <= worst <= 0.05
