@@ -100,3 +100,26 @@ def test_absurd_quantities_are_input_errors(
     err = capsys.readouterr().err
     assert f"{path}:{line}:{column}: error:" in err and "far outside" in err
     assert to_si("117 GPa", "pressure", "si") == pytest.approx(117e9)  # real moduli still pass
+
+
+def test_the_garbage_collector_is_restored_after_each_file(
+    write_layout: Callable[..., Path],
+) -> None:
+    """The pipeline pauses the cyclic collector per file (benchmarks/bench_check.py shows
+    why); it must come back as it was, also when the file has input errors."""
+    import gc
+
+    from rulecheck.errors import InputError
+
+    assert gc.isenabled()
+    check_file(write_layout())
+    assert gc.isenabled()
+    with pytest.raises(InputError):
+        check_file(write_layout(tweak(MINIMAL, ("length: 20 ft", "length: 20 psi"))))
+    assert gc.isenabled()
+    gc.disable()
+    try:
+        check_file(write_layout())
+        assert not gc.isenabled()  # a caller's choice is left alone
+    finally:
+        gc.enable()
