@@ -97,11 +97,7 @@ def _describe(error: ValidationError) -> tuple[str, str]:
     if kind in ("minimum", "exclusiveMinimum", "maximum", "exclusiveMaximum"):
         return f"{where} is {value!r}, out of range ({error.message})", ""
     if kind in ("oneOf", "anyOf"):
-        if (
-            path
-            and path[-1] in ("cold", "hot")
-            or (error.schema.get("anyOf") and path[:1] == ("fixtures",))
-        ):
+        if _is_fixture_sides_choice(error):
             return f"{where} needs 'cold', 'hot' or both", "name the point that feeds each side"
         return f"{where} has the wrong form: {_kind_of(value)} {value!r}", _oneof_hint(path)
     return f"{where}: {error.message}", ""
@@ -172,6 +168,12 @@ def validate(doc: Document, problems: ProblemCollector) -> None:
         problems.add(doc.where(path), message, hint)
 
 
+def _is_fixture_sides_choice(error: ValidationError) -> bool:
+    """The schema's "a fixture has cold, hot or both" choice, which has its own message."""
+    path = tuple(error.absolute_path)
+    return error.validator == "anyOf" and len(path) == 2 and path[0] == "fixtures"
+
+
 def _branch_error(error: ValidationError) -> ValidationError:
     """For a value that fits none of several forms, the error of the form it was meant as.
 
@@ -183,11 +185,7 @@ def _branch_error(error: ValidationError) -> ValidationError:
     while (
         error.validator in ("oneOf", "anyOf")
         and error.context
-        and not (
-            error.validator == "anyOf"
-            and tuple(error.absolute_path)[:1] == ("fixtures",)
-            and len(error.absolute_path) == 2
-        )
+        and not _is_fixture_sides_choice(error)
     ):
         meant = [
             e

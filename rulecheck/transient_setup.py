@@ -79,16 +79,15 @@ def _path_nodes(analysis: Analysis, event: ValveEvent) -> set[str]:
     keep = {event.point} | {layout.pipes[k].start for k in event.path}
     # the arrester the screening credits (nearest sealed one in reach); the others nearby
     # are left out of the path model like the other branches [D]
-    nearby = {event.protected_by} if event.protected_by else set()
-    for arrester in layout.arresters:
-        if arrester.id not in nearby:
-            continue
-        node, chain = arrester.at, []
-        while node not in keep and node in tree.parent:
-            chain.append(node)
-            node = layout.pipes[tree.parent[node]].start
-        if node in keep:
-            keep.update(chain)
+    if event.protected_by is None:
+        return keep
+    node = next(a.at for a in layout.arresters if a.id == event.protected_by)
+    chain = []
+    while node not in keep and node in tree.parent:
+        chain.append(node)
+        node = layout.pipes[tree.parent[node]].start
+    if node in keep:
+        keep.update(chain)
     return keep
 
 

@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import math
 import re
-from dataclasses import dataclass
 from functools import cache
 from typing import Any
 
@@ -214,11 +213,3 @@ def _round(x: float, digits: int) -> str:
     magnitude = math.floor(math.log10(abs(x)))
     decimals = max(0, digits - 1 - magnitude)
     return f"{x:.{decimals}f}"
-
-
-@dataclass(frozen=True)
-class Measure:
-    """An SI value with its kind, for findings that carry a measured value and a limit."""
-
-    value: float
-    kind: str
