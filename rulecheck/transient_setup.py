@@ -32,6 +32,7 @@ from rulecheck.physics.transient import (
     TransientPipe,
     TransientResult,
     simulate,
+    simulate_many,
 )
 from rulecheck.physics.transient_grid import choose_time_step
 from rulecheck.surge_analysis import ValveEvent
@@ -183,13 +184,25 @@ def default_duration(event: ValveEvent) -> float:
     return max(0.1, event.closure_time + 10 * max(event.critical_time, 1e-3))
 
 
-def run_event(
+@dataclass
+class EventSetup:
+    """One valve event ready to run: its network, time step and duration."""
+
+    event: ValveEvent
+    network: TransientNetwork
+    sized_arresters: dict[str, float]  # arrester id -> equivalent gas volume [m³] we sized
+    pipe_ids: list[str]  # layout pipe id of each transient pipe
+    dt: float  # [s]
+    duration: float  # [s]
+
+
+def prepare_event(
     analysis: Analysis,
     event: ValveEvent,
     duration: float | None = None,
-    progress: Callable[[float], None] | None = None,
     whole_tree: bool = True,
-) -> EventRun:
+) -> EventSetup:
+    """The event's network with the time step its path and closure ask for."""
     net, sized, ids = build_event_network(analysis, event, whole_tree)
     shortest = min(p.length / p.wave_speed for p in net.pipes)
     wanted = min(
@@ -201,28 +214,75 @@ def run_event(
     # under it (within the search's few percent) and no pipe's wave speed moves more than that
     travel = [p.length / p.wave_speed for p in net.pipes]
     dt, _, _ = choose_time_step([*travel, wanted])
-    result = simulate(net, duration or default_duration(event), dt=dt, progress=progress)
+    return EventSetup(event, net, sized, ids, dt, duration or default_duration(event))
+
+
+def read_back(analysis: Analysis, setup: EventSetup, result: TransientResult) -> EventRun:
+    """The run's peak and minimum on the layout's basis, per path pipe."""
+    event = setup.event
     shift = event.static_max - event.static_min
     path_ids = {analysis.layout.pipes[k].id for k in event.path}
-    path_max = {
-        pid: float(result.pipe_max_pressure[i]) + shift
-        for i, pid in enumerate(ids)
-        if pid in path_ids
-    }
-    path_min = {
-        pid: float(result.pipe_min_pressure[i]) for i, pid in enumerate(ids) if pid in path_ids
-    }
+    on_path = [(i, pid) for i, pid in enumerate(setup.pipe_ids) if pid in path_ids]
+    path_max = {pid: float(result.pipe_max_pressure[i]) + shift for i, pid in on_path}
+    path_min = {pid: float(result.pipe_min_pressure[i]) for i, pid in on_path}
     peak = float(result.peak_pressure) + shift
-    return EventRun(event, result, peak, float(result.min_pressure), path_max, path_min, sized)
+    return EventRun(
+        event,
+        result,
+        peak,
+        float(result.min_pressure),
+        path_max,
+        path_min,
+        setup.sized_arresters,
+    )
 
+
+def run_event(
+    analysis: Analysis,
+    event: ValveEvent,
+    duration: float | None = None,
+    progress: Callable[[float], None] | None = None,
+    whole_tree: bool = True,
+) -> EventRun:
+    """Simulate one valve event (``simulate``; the whole service tree by default)."""
+    setup = prepare_event(analysis, event, duration, whole_tree)
+    result = simulate(setup.network, setup.duration, dt=setup.dt, progress=progress)
+    return read_back(analysis, setup, result)
+
+
+#: Events run together in one stacked simulation by ``check --transient`` [D: tuned with
+#: benchmarks/bench_transient.py; larger batches waste steps on their shorter events].
+BATCH_EVENTS = 64
 
 _WORK: Analysis | None = None  # the analysis a forked worker process reads
 
 
-def _run_index(index: int) -> tuple[float, float, bool]:
+def _run_batch(indices: list[int]) -> list[tuple[float, float, bool]]:
+    """Path-model runs of some of ``_WORK``'s events, stacked into one simulation."""
     assert _WORK is not None
-    run = run_event(_WORK, _WORK.surge.events[index], whole_tree=False)
-    return run.peak, run.minimum, bool(run.result.cavitation)
+    analysis = _WORK
+    setups = [prepare_event(analysis, analysis.surge.events[i], whole_tree=False) for i in indices]
+    results = simulate_many(
+        [s.network for s in setups], [s.duration for s in setups], [s.dt for s in setups]
+    )
+    runs = [read_back(analysis, s, r) for s, r in zip(setups, results, strict=True)]
+    return [(run.peak, run.minimum, bool(run.result.cavitation)) for run in runs]
+
+
+def _batches(analysis: Analysis, todo: list[int]) -> list[list[int]]:
+    """Events in runs of ``BATCH_EVENTS``, grouped by about how many steps they take (the
+    stacked run lasts as long as its longest member); fixed by the layout alone, so the
+    results do not depend on the number of workers."""
+
+    def steps(i: int) -> float:
+        event = analysis.surge.events[i]
+        wanted = max(event.critical_time, 1e-4) / ROUND_TRIP_STEPS
+        if event.closure_time > 0:
+            wanted = min(wanted, event.closure_time / CLOSURE_STEPS)
+        return default_duration(event) / wanted
+
+    ordered = sorted(todo, key=lambda i: (-steps(i), i))  # longest first: workers end together
+    return [ordered[j : j + BATCH_EVENTS] for j in range(0, len(ordered), BATCH_EVENTS)]
 
 
 def apply_transient(
@@ -230,26 +290,31 @@ def apply_transient(
 ) -> None:
     """Replace the screening peak/min of each (quick) valve event with the simulated ones.
 
-    Events are independent, so a large building spreads them over the machine's cores
-    (forked workers); results are applied in event order, so the output does not depend
-    on the number of workers.
+    Events are independent: they run in stacked batches (one vectorised simulation each),
+    and a large building spreads the batches over the machine's cores (forked workers).
+    Results are applied in event order.
     """
     global _WORK
     todo = [i for i, e in enumerate(analysis.surge.events) if e.quick or not quick_only]
-    workers = workers or min(os.cpu_count() or 1, 8)
+    batches = _batches(analysis, todo)
+    workers = min(workers or os.cpu_count() or 1, 8, len(batches))
     _WORK = analysis
     try:
-        if workers > 1 and len(todo) >= 40 and "fork" in mp.get_all_start_methods():
+        if workers > 1 and "fork" in mp.get_all_start_methods():
             context = mp.get_context("fork")
             with ProcessPoolExecutor(workers, mp_context=context) as pool:
-                outcomes = list(
-                    pool.map(_run_index, todo, chunksize=max(1, len(todo) // (workers * 8)))
-                )
+                outcomes = list(pool.map(_run_batch, batches))
         else:
-            outcomes = [_run_index(i) for i in todo]
+            outcomes = [_run_batch(batch) for batch in batches]
     finally:
         _WORK = None
-    for index, (peak, minimum, cavitation) in zip(todo, outcomes, strict=True):
+    found = {
+        i: out
+        for batch, outs in zip(batches, outcomes, strict=True)
+        for i, out in zip(batch, outs, strict=True)
+    }
+    for index in todo:
+        peak, minimum, cavitation = found[index]
         event = analysis.surge.events[index]
         if not math.isfinite(peak):
             raise RuntimeError(f"transient run for {event.fixture.id} diverged")

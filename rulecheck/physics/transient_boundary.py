@@ -21,7 +21,6 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 
 import numpy as np
 
@@ -88,55 +87,68 @@ def opening_schedule(
     return np.interp(rel, xs, taus, left=taus[0], right=taus[-1])
 
 
-def valve_node_head(sc: float, sb: float, cv: float, z: float) -> tuple[float, float]:
-    """Head and outflow at a node discharging through an orifice to atmosphere.
+def valve_heads(
+    sc: np.ndarray, sb: np.ndarray, cv: np.ndarray, z: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """Head and outflow at nodes discharging through an orifice to atmosphere (vectorised).
 
     S_B H + Cv sqrt(H - z) = S_C; with y = sqrt(H - z):
     y = (-c + sqrt(c^2 + 4 d)) / 2,  c = Cv / S_B,  d = S_C / S_B - z;
-    no outflow when d <= 0 (no backflow through the valve).
+    no outflow when d <= 0 or Cv <= 0 (no backflow through the valve).
 
     Parameters
     ----------
-    sc : float
-        S_C = sum(C / B) of the pipe ends at the node [m^3/s].
-    sb : float
+    sc : ndarray
+        S_C = sum(C / B) of the pipe ends at each node [m^3/s].
+    sb : ndarray
         S_B = sum(1 / B) [m^2 s].
-    cv : float
+    cv : ndarray
         Orifice coefficient Cv = tau Q0 / sqrt(dH0) [m^2.5/s].
-    z : float
-        Elevation of the valve outlet [m].
+    z : ndarray
+        Elevation of each valve outlet [m].
 
     Returns
     -------
-    tuple of float
-        (piezometric head [m], valve outflow [m^3/s]).
+    tuple of ndarray
+        (piezometric head [m], valve outflow [m^3/s]) per node.
 
     Examples
     --------
-    S_B = 1, Cv = 1, S_C = z + 2: y^2 + y - 2 = 0, y = 1, H = z + 1, Q = 1 [D]:
+    S_B = 1, Cv = 1, S_C = z + 2: y^2 + y - 2 = 0, y = 1, H = z + 1, Q = 1; a shut
+    valve (Cv = 0) leaves H = S_C / S_B [D]:
 
-    >>> valve_node_head(12.0, 1.0, 1.0, 10.0)
-    (11.0, 1.0)
+    >>> h, q = valve_heads(np.array([12.0, 12.0]), np.ones(2), np.array([1.0, 0.0]),
+    ...                    np.full(2, 10.0))
+    >>> h.tolist(), q.tolist()
+    ([11.0, 12.0], [1.0, 0.0])
 
     References
     ----------
     1. Wylie & Streeter (1993), valve at the downstream end of a pipe: orifice
        equation with tau [S: engineering-basis §10; M for the section].
     """
-    d = sc / sb - z
-    if cv <= 0.0 or d <= 0.0:
-        return sc / sb, 0.0
+    liquid = sc / sb
+    d = liquid - z
+    flowing = (cv > 0.0) & (d > 0.0)
+    d = np.where(flowing, d, 0.0)
     c = cv / sb
-    y = 2.0 * d / (c + math.sqrt(c * c + 4.0 * d))  # = (-c + sqrt(c^2 + 4d)) / 2, no cancellation
-    return z + y * y, cv * y
+    # y = (-c + sqrt(c^2 + 4d)) / 2 without cancellation; y = 0 where nothing flows
+    y = 2.0 * d / np.where(flowing, c + np.sqrt(c * c + 4.0 * d), 1.0)
+    return np.where(flowing, z + y * y, liquid), cv * y
 
 
-@dataclass
-class ArresterState:
-    """Gas arrester at a node: polytropic gas p V^n = const behind a piston with a stop.
+#: Newton on the arrester gas volume stops when a step moves it by less than this
+#: fraction of the precharge volume (relative pressure error ~1e-11) [D: numerical
+#: tolerance]; it gives up after ``_NEWTON_TURNS`` turns.
+_NEWTON_TOLERANCE = 1e-11
+_NEWTON_TURNS = 60
+
+
+class ArresterBank:
+    """Gas arresters at nodes: polytropic gas p V^n = const behind a piston with a stop.
 
     The gas volume cannot exceed its precharge volume (piston on its stop); on
-    the stop the arrester takes no flow until the liquid pressure exceeds the
+    the stop an arrester takes no flow until the liquid pressure exceeds the
     precharge. Off the stop, continuity with the trapezoidal rule,
     V - V_old = -dt/2 (Q_a + Q_a_old) (Q_a = liquid flow into the arrester), and
     the node head from the gas pressure, solved by Newton on V:
@@ -144,76 +156,108 @@ class ArresterState:
         S_C - S_B H(V) - Q_valve(H(V)) + 2 (V - V_old) / dt + Q_a_old = 0,
         H(V) = z + (K V^-n - p_atm) / (rho g)
 
+    All arresters of a run (of several networks at once) are held as arrays of
+    one entry per arrester and advanced together; each keeps its own dt, fluid
+    and, when it sits at the closing valve, that valve's orifice.
+
     References: Wylie & Streeter (1993), air chamber boundary (polytropic gas)
     [S: engineering-basis §10; M for the section]; n = 1.2 [CP].
     """
 
-    node: int
-    z: float  # [m]
-    constant: float  # p_abs V^n [Pa m^3n]
-    exponent: float  # n [-]
-    v_max: float  # [m^3]
-    volume: float  # [m^3]
-    flow: float = 0.0  # liquid flow into the arrester at the last step [m^3/s]
-    on_stop: bool = False
-    previous: float = math.nan  # gas volume one step before ``volume`` [m^3]
-
-    def __post_init__(self) -> None:
-        if math.isnan(self.previous):
-            self.previous = self.volume
-
-    def head_of(self, volume: float, rho_g: float, p_atm: float) -> float:
-        """Node head [m] for a gas volume [m^3]."""
-        return self.z + (self.constant * volume**-self.exponent - p_atm) / rho_g
+    def __init__(
+        self,
+        node: np.ndarray,
+        z: np.ndarray,
+        constant: np.ndarray,
+        exponent: np.ndarray,
+        v_max: np.ndarray,
+        volume: np.ndarray,
+        on_stop: np.ndarray,
+        dt: np.ndarray,
+        rho_g: np.ndarray,
+        p_atm: np.ndarray,
+        valve: np.ndarray,
+    ) -> None:
+        """Per arrester: node, elevation z [m], K = p_abs V^n [Pa m^3n], n [-], precharge
+        volume [m^3], volume [m^3], on its stop [bool], dt [s], rho g [N/m^3], p_atm [Pa],
+        index of the valve at its node or -1."""
+        self.node = node
+        self.z = z
+        self.constant = constant
+        self.exponent = exponent
+        self.v_max = v_max
+        self.precharge = constant * v_max**-exponent  # absolute gas pressure on the stop [Pa]
+        self.volume = volume.astype(float)
+        self.previous = self.volume.copy()  # gas volume one step before ``volume`` [m^3]
+        self.flow = np.zeros(node.size)  # liquid flow into the arrester, last step [m^3/s]
+        self.on_stop = on_stop.astype(bool)
+        self.dt = dt
+        self.rho_g = rho_g
+        self.p_atm = p_atm
+        self.valve = valve
 
     def step(
-        self,
-        sc: float,
-        sb: float,
-        dt: float,
-        rho_g: float,
-        p_atm: float,
-        cv: float = 0.0,
-        zv: float = 0.0,
-    ) -> float:
-        """Advance one step; return the node head [m] (a valve at the node when cv > 0)."""
-        if self.on_stop:
-            h0, _ = valve_node_head(sc, sb, cv, zv)
-            if rho_g * (h0 - self.z) + p_atm <= self.constant * self.v_max**-self.exponent:
-                self.flow = 0.0
-                return h0
-            self.on_stop = False
-            self.flow = 0.0
-            self.previous = self.volume
-        v_old, q_old, n, k = self.volume, self.flow, self.exponent, self.constant
+        self, sc: np.ndarray, sb: np.ndarray, cv: np.ndarray, zv: np.ndarray, i: np.ndarray
+    ) -> tuple[np.ndarray, np.ndarray]:
+        """Advance arresters ``i`` one step; return their node heads [m] and which of them
+        changed between on and off the stop.
+
+        ``sc``, ``sb`` are the nodes' S_C, S_B; ``cv``, ``zv`` the orifice of a valve at
+        the node (cv = 0 where there is none), all aligned with ``i``.
+        """
+        head, _ = valve_heads(sc, sb, cv, zv)
+        was = self.on_stop[i]
+        pressure = self.rho_g[i] * (head - self.z[i]) + self.p_atm[i]
+        moving = ~(was & (pressure <= self.precharge[i]))
+        self.flow[i[~moving]] = 0.0
+        leaving = i[was & moving]
+        self.on_stop[leaving] = False
+        self.flow[leaving] = 0.0
+        self.previous[leaving] = self.volume[leaving]
+        if moving.any():
+            head[moving] = self._off_stop(sc[moving], sb[moving], cv[moving], zv[moving], i[moving])
+        return head, self.on_stop[i] != was
+
+    def _off_stop(
+        self, sc: np.ndarray, sb: np.ndarray, cv: np.ndarray, zv: np.ndarray, i: np.ndarray
+    ) -> np.ndarray:
+        v_old, q_old, two_dt = self.volume[i], self.flow[i], 2.0 / self.dt[i]
+        v_max, n, k, z = self.v_max[i], self.exponent[i], self.constant[i], self.z[i]
+        p_atm, inv_rho_g = self.p_atm[i], 1.0 / self.rho_g[i]
+        # H(V) = base + p(V) / (rho g), p = K V^-n; dH/dV = -n p / (V rho g)
+        base, neg_n, slope_of = z - p_atm * inv_rho_g, -n, -n * inv_rho_g
+        rest = sc + q_old - two_dt * v_old  # f(V) = rest - S_B H - Q_valve + 2 V / dt
+        half_cv, closed_tol = 0.5 * cv, _NEWTON_TOLERANCE * v_max
+        any_valve = bool((cv > 0.0).any())
         # start from the trend of the last two steps: Newton then needs one or two turns
-        v = min(max(v_old + (v_old - self.previous), 0.5 * v_old), self.v_max)
-        self.previous = v_old
-        for _ in range(60):
-            h = self.head_of(v, rho_g, p_atm)
-            dh_dv = -n * k * v ** (-n - 1.0) / rho_g
-            qv, dqv = 0.0, 0.0
-            if cv > 0.0 and h > zv:
-                s = math.sqrt(h - zv)
-                qv, dqv = cv * s, 0.5 * cv / max(s, 1e-9)
-            f = sc - sb * h - qv + 2.0 * (v - v_old) / dt + q_old
-            df = -(sb + dqv) * dh_dv + 2.0 / dt
-            v_new = v - f / df
-            if v_new <= 0.0:
-                v_new = 0.5 * v
-            done = abs(v_new - v) <= 1e-11 * self.v_max  # relative pressure error ~1e-11
+        v = np.minimum(np.maximum(v_old + (v_old - self.previous[i]), 0.5 * v_old), v_max)
+        self.previous[i] = v_old
+        going = np.ones(i.size, dtype=bool)
+        for _ in range(_NEWTON_TURNS):
+            p = k * v**neg_n
+            h = base + p * inv_rho_g
+            f = rest - sb * h + two_dt * v
+            ds = sb  # d(S_B H + Q_valve)/dH
+            if any_valve:  # orifice Q = Cv sqrt(H - zv) where H > zv, else closed
+                s = np.sqrt(np.maximum(h - zv, 0.0))
+                f -= cv * s
+                ds = sb + half_cv * s / np.maximum(s * s, 1e-18)
+            v_new = v - f / (two_dt - ds * (slope_of * p / v))
+            v_new = np.where(going, np.where(v_new <= 0.0, 0.5 * v, v_new), v)
+            going &= np.abs(v_new - v) > closed_tol
             v = v_new
-            if done:
+            if not going.any():
                 break
-        if v >= self.v_max:  # back on the stop: implicit Euler for this step
-            self.on_stop = True
-            q = -(self.v_max - v_old) / dt
-            self.volume, self.flow = self.v_max, 0.0
-            h, _ = valve_node_head(sc - q, sb, cv, zv)
-            return h
-        self.flow = -2.0 * (v - v_old) / dt - q_old
-        self.volume = v
-        return self.head_of(v, rho_g, p_atm)
+        back = v >= v_max  # back on the stop: implicit Euler for this step
+        head = base + k * v**neg_n * inv_rho_g
+        if back.any():
+            q = -(v_max[back] - v_old[back]) / self.dt[i[back]]
+            self.on_stop[i[back]] = True
+            v[back] = v_max[back]
+            head[back] = valve_heads(sc[back] - q, sb[back], cv[back], zv[back])[0]
+        self.flow[i] = np.where(back, 0.0, -two_dt * (v - v_old) - q_old)
+        self.volume[i] = v
+        return head
 
 
 class CavityTracker:
@@ -227,6 +271,10 @@ class CavityTracker:
 
     When V <= 0 the cavity collapses and the liquid solution is used again
     [S: Bergant, Simpson & Tijsseling 2006, DVCM; Wylie & Streeter 1993].
+
+    Every node and section carries its own dt and last step (networks of one
+    run may differ in both); cavity events and the largest volume are recorded
+    up to that last step only.
     """
 
     def __init__(
@@ -237,7 +285,10 @@ class CavityTracker:
         sec_b: np.ndarray,
         sec_pipe: np.ndarray,
         sec_x: np.ndarray,
-        dt: float,
+        node_dt: np.ndarray,
+        sec_dt: np.ndarray,
+        node_end: np.ndarray,
+        sec_end: np.ndarray,
     ) -> None:
         self.node_hv = node_hv  # -inf where no cavity may form
         self.node_hv_onset = node_hv - CAVITY_ONSET_TOLERANCE
@@ -247,42 +298,46 @@ class CavityTracker:
         self.sec_invb = 1.0 / sec_b
         self.sec_pipe = sec_pipe
         self.sec_x = sec_x
-        self.dt = dt
+        self.node_dt, self.sec_dt = node_dt, sec_dt  # [s]
+        self.node_end, self.sec_end = node_end, sec_end  # last recorded step
         self.node_vol = np.zeros(node_hv.size)
         self.node_net = np.zeros(node_hv.size)
         self.sec_vol = np.zeros(sec_hv.size)
         self.sec_net = np.zeros(sec_hv.size)
+        self.node_max = np.zeros(node_hv.size)  # largest cavity volume per node [m^3]
+        self.sec_max = np.zeros(sec_hv.size)
         self.n_node = 0  # open cavities
         self.n_sec = 0
-        self.node_events: list[list[float]] = []
-        self.sec_events: list[list[float]] = []
+        self.node_events: list[list[float]] = []  # [node, t formed, t collapsed or nan]
+        self.sec_events: list[list[float]] = []  # [pipe, x, t formed, t collapsed or nan]
         self._node_open: dict[int, int] = {}
         self._sec_open: dict[int, int] = {}
-        self.max_volume = 0.0
 
-    def allow_node(self, node: int, hv: float) -> None:
-        """Let a cavity form at ``node`` (hv = vapour head) or forbid it (hv = -inf)."""
+    def allow_node(self, node: np.ndarray, hv: np.ndarray) -> None:
+        """Let cavities form at ``node`` (hv = vapour head) or forbid them (hv = -inf)."""
         self.node_hv[node] = hv
         self.node_hv_onset[node] = hv - CAVITY_ONSET_TOLERANCE
 
-    def nodes(self, head: np.ndarray, sc: np.ndarray, t: float) -> None:
-        """Apply the DVCM at nodes: ``head`` (liquid solution) is overwritten in place."""
+    def nodes(self, head: np.ndarray, sc: np.ndarray, k: int) -> None:
+        """Apply the DVCM at nodes after step ``k``: ``head`` (liquid solution) is
+        overwritten in place."""
         if not self.n_node and not (head < self.node_hv_onset).any():
             return
         cand = np.flatnonzero((self.node_vol > 0.0) | (head < self.node_hv_onset))
         hv = self.node_hv[cand]
         net = hv * self.node_sb[cand] - sc[cand]  # outflow minus inflow at head hv
         old = self.node_vol[cand]
-        vol = old + self.dt * (CAVITY_WEIGHT * net + (1.0 - CAVITY_WEIGHT) * self.node_net[cand])
+        vol = old + self.node_dt[cand] * (
+            CAVITY_WEIGHT * net + (1.0 - CAVITY_WEIGHT) * self.node_net[cand]
+        )
         keep = vol > 0.0
         kept = cand[keep]
         head[kept] = hv[keep]
         self.node_vol[cand] = np.where(keep, vol, 0.0)
         self.node_net[cand] = np.where(keep, net, 0.0)
         self.n_node = int(kept.size)
-        self._events(cand, old, keep, t, self._node_open, self.node_events, None)
-        if kept.size:
-            self.max_volume = max(self.max_volume, float(vol[keep].max()))
+        self._record(cand, vol, keep, k, self.node_end, self.node_max)
+        self._events(cand, old, keep, k, self.node_dt, self.node_end, self._node_open, None)
 
     def sections(
         self,
@@ -291,9 +346,10 @@ class CavityTracker:
         qd: np.ndarray,
         cp: np.ndarray,
         cm: np.ndarray,
-        t: float,
+        k: int,
     ) -> None:
-        """Apply the DVCM at interior sections: head, qu, qd overwritten in place."""
+        """Apply the DVCM at interior sections after step ``k``: head, qu, qd overwritten
+        in place."""
         if not self.n_sec and not (head < self.sec_hv_onset).any():
             return
         cand = np.flatnonzero((self.sec_vol > 0.0) | (head < self.sec_hv_onset))
@@ -303,7 +359,9 @@ class CavityTracker:
         q_out = (hv - cm[cand]) * invb
         net = q_out - q_in
         old = self.sec_vol[cand]
-        vol = old + self.dt * (CAVITY_WEIGHT * net + (1.0 - CAVITY_WEIGHT) * self.sec_net[cand])
+        vol = old + self.sec_dt[cand] * (
+            CAVITY_WEIGHT * net + (1.0 - CAVITY_WEIGHT) * self.sec_net[cand]
+        )
         keep = vol > 0.0
         kept = cand[keep]
         head[kept] = hv[keep]
@@ -312,25 +370,45 @@ class CavityTracker:
         self.sec_vol[cand] = np.where(keep, vol, 0.0)
         self.sec_net[cand] = np.where(keep, net, 0.0)
         self.n_sec = int(kept.size)
-        self._events(cand, old, keep, t, self._sec_open, self.sec_events, self.sec_x)
-        if kept.size:
-            self.max_volume = max(self.max_volume, float(vol[keep].max()))
+        self._record(cand, vol, keep, k, self.sec_end, self.sec_max)
+        self._events(cand, old, keep, k, self.sec_dt, self.sec_end, self._sec_open, self.sec_x)
+
+    @staticmethod
+    def _record(
+        cand: np.ndarray,
+        vol: np.ndarray,
+        keep: np.ndarray,
+        k: int,
+        end: np.ndarray,
+        largest: np.ndarray,
+    ) -> None:
+        """Largest cavity volume per element, up to its last recorded step."""
+        live = keep & (end[cand] >= k)
+        if live.any():
+            j = cand[live]
+            largest[j] = np.maximum(largest[j], vol[live])
 
     def _events(
         self,
         cand: np.ndarray,
         old: np.ndarray,
         keep: np.ndarray,
-        t: float,
+        k: int,
+        dt: np.ndarray,
+        end: np.ndarray,
         open_: dict[int, int],
-        events: list[list[float]],
         sec_x: np.ndarray | None,
     ) -> None:
-        for i in cand[(old <= 0.0) & keep].tolist():
-            open_[i] = len(events)
+        recorded = end[cand] >= k
+        for i in cand[(old <= 0.0) & keep & recorded].tolist():
+            t = k * float(dt[i])
             if sec_x is None:
-                events.append([i, t, math.nan])
+                open_[i] = len(self.node_events)
+                self.node_events.append([i, t, math.nan])
             else:
-                events.append([int(self.sec_pipe[i]), float(sec_x[i]), t, math.nan])
-        for i in cand[(old > 0.0) & ~keep].tolist():
-            events[open_.pop(i)][-1] = t
+                open_[i] = len(self.sec_events)
+                self.sec_events.append([int(self.sec_pipe[i]), float(sec_x[i]), t, math.nan])
+        events = self.node_events if sec_x is None else self.sec_events
+        for i in cand[(old > 0.0) & ~keep & recorded].tolist():
+            if i in open_:
+                events[open_.pop(i)][-1] = k * float(dt[i])

@@ -98,15 +98,17 @@ def choose_time_step(
     return best
 
 
-def reaches_for_time_step(travel_times: Sequence[float], dt: float) -> tuple[np.ndarray, float]:
+def reaches_for_time_step(
+    travel_times: Sequence[float] | np.ndarray, dt: float | np.ndarray
+) -> tuple[np.ndarray, float]:
     """Reaches per pipe for a given time step: N_k = max(1, round(L_k / (a_k dt))).
 
     Parameters
     ----------
     travel_times : sequence of float
         One-way wave travel time L_k / a_k of each pipe [s].
-    dt : float
-        Time step [s], > 0.
+    dt : float or ndarray
+        Time step [s], > 0: one for all, or one per travel time.
 
     Returns
     -------
@@ -123,9 +125,10 @@ def reaches_for_time_step(travel_times: Sequence[float], dt: float) -> tuple[np.
     ----------
     1. Wylie & Streeter (1993), wave-speed adjustment [S: engineering-basis §10].
     """
-    if not dt > 0:
+    step = np.asarray(dt, dtype=float)
+    if not np.all(step > 0):
         raise ValueError("dt must be > 0")
-    x = np.asarray(travel_times, dtype=float) / dt
+    x = np.asarray(travel_times, dtype=float) / step
     n = np.maximum(1.0, np.rint(x))
     return n.astype(np.int64), float(np.abs(x / n - 1.0).max())
 
@@ -143,7 +146,7 @@ class Grid:
     end of every pipe (2P entries).
     """
 
-    dt: float
+    dt: np.ndarray  # time step per pipe [s] (pipes of different networks may differ)
     reaches: np.ndarray  # [-] per pipe
     adjustment: np.ndarray  # a_adj / a - 1 per pipe [-]
     offset: np.ndarray  # first section of each pipe
@@ -180,7 +183,7 @@ def build_grid(
     wave_speed: np.ndarray,
     friction: np.ndarray,
     elevation: np.ndarray,
-    dt: float | None,
+    dt: float | np.ndarray | None,
     max_adjustment: float = DEFAULT_MAX_ADJUSTMENT,
 ) -> Grid:
     """Discretise a pipe network into MOC sections on one time step (a :class:`Grid`).
@@ -201,8 +204,9 @@ def build_grid(
         Darcy friction factors [-].
     elevation : ndarray
         Node elevations [m].
-    dt : float or None
-        Time step [s]; None chooses one with ``max_adjustment``.
+    dt : float, ndarray or None
+        Time step [s]: one for all pipes, one per pipe (a run of several
+        independent networks), or None to choose one with ``max_adjustment``.
     max_adjustment : float
         Largest allowed relative wave-speed adjustment [-].
 
@@ -263,7 +267,7 @@ def build_grid(
         bad = np.flatnonzero(node_SB == 0).tolist()
         raise ValueError(f"nodes {bad} have no pipe")
     return Grid(
-        dt=float(dt),
+        dt=np.broadcast_to(np.asarray(dt, dtype=float), reaches.shape).copy(),
         reaches=reaches,
         adjustment=adjustment,
         offset=offset,
