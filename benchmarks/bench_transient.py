@@ -2,6 +2,7 @@
 
     python benchmarks/bench_transient.py            # clinic + 500-fixture tower (20 x 25)
     python benchmarks/bench_transient.py --floors 10 --fixtures 50
+    python benchmarks/bench_transient.py --batches 1 16 64 128   # also: events per stacked run
 
 Each layout is checked in a subprocess, as a user runs it (start-up included), best of
 ``--repeat`` runs; the screening-only check is timed beside it. Target (issue: transient
@@ -59,11 +60,36 @@ def quick_valves(path: Path) -> int:
     return sum(1 for e in analyse_file(path).surge.events if e.quick)
 
 
+def sweep(path: Path, batches: list[int], repeat: int) -> None:
+    """In-process time of the transient step alone for several batch sizes, 1 and 2 workers."""
+    sys.path.insert(0, str(ROOT))
+    from rulecheck import transient_setup
+    from rulecheck.pipeline import analyse_file
+
+    print(f"\n{path.name}: simulation step only (apply_transient), best of {repeat}")
+    print(f"{'events per run':>14} {'1 worker s':>11} {'2 workers s':>12}")
+    for batch in batches:
+        transient_setup.BATCH_EVENTS = batch
+        row = []
+        for workers in (1, 2):
+            best = float("inf")
+            for _ in range(repeat):
+                analysis = analyse_file(path)
+                start = time.perf_counter()
+                transient_setup.apply_transient(analysis, workers=workers)
+                best = min(best, time.perf_counter() - start)
+            row.append(best)
+        print(f"{batch:>14} {row[0]:>11.2f} {row[1]:>12.2f}")
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--floors", type=int, default=20)
     parser.add_argument("--fixtures", type=int, default=25, help="fixtures per floor")
     parser.add_argument("--repeat", type=int, default=3)
+    parser.add_argument(
+        "--batches", type=int, nargs="*", default=[], help="also time these events-per-run sizes"
+    )
     args = parser.parse_args()
     out = HERE / "out"
     out.mkdir(exist_ok=True)
@@ -75,6 +101,8 @@ def main() -> None:
         transient, summary = timed([str(path), "--transient"], args.repeat)
         print(f"{path.name:<34} {quick_valves(path):>12} {screening:>12.2f} {transient:>12.2f}")
     print("target: the 500-fixture building in <= 10 s (check --transient, whole command)")
+    if args.batches:
+        sweep(tower, args.batches, args.repeat)
 
 
 if __name__ == "__main__":

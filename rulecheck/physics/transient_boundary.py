@@ -205,8 +205,10 @@ class ArresterBank:
         ``sc``, ``sb`` are the nodes' S_C, S_B; ``cv``, ``zv`` the orifice of a valve at
         the node (cv = 0 where there is none), all aligned with ``i``.
         """
-        head, _ = valve_heads(sc, sb, cv, zv)
         was = self.on_stop[i]
+        if not was.any():  # all off the stop (the common case during a surge)
+            return self._off_stop(sc, sb, cv, zv, i), self.on_stop[i] != was
+        head, _ = valve_heads(sc, sb, cv, zv)
         pressure = self.rho_g[i] * (head - self.z[i]) + self.p_atm[i]
         moving = ~(was & (pressure <= self.precharge[i]))
         self.flow[i[~moving]] = 0.0
