@@ -108,6 +108,40 @@ def test_adjusted_wave_speed_is_the_one_used_and_reported():
     assert abs(jump / (RHO * a * v0) - 1.0) == pytest.approx(r.max_wave_speed_adjustment, 1e-9)
 
 
+@pytest.mark.parametrize("tau", [0.25, 0.5, 0.8])
+def test_tabled_partial_closure_matches_the_valve_characteristic(tau):
+    """A closure table that drops the opening at once to tau and holds it: the first wave
+    satisfies Joukowsky with the orifice law at the valve,
+
+        dH = (a / g) (v0 - v1),  v1 = tau v0 sqrt((H0 + dH) / H0),
+
+    solved for dH (H above the valve outlet) [S: Wylie & Streeter 1993, valve boundary
+    with the C+ characteristic; frictionless pipe, so H0 is the reservoir head].
+    Tolerance 1e-6 relative; the valve then still passes v1.
+    """
+    length, a, v0, head = 100.0, 1000.0, 1.0, 60.0
+    net = single_pipe(length, a, v0=v0, head=head)
+    net = TransientNetwork(
+        2,
+        net.pipes,
+        net.elevation,
+        net.fixed_heads,
+        ClosingValve(1, 0.0, law=((0.0, 1.0), (1.0, tau))),
+        density=RHO,
+    )
+    r = simulate(net, 1.5 * length / a, dt=length / a / 10)
+
+    def first_wave(dh: float) -> float:
+        return dh - a / G * (v0 - tau * v0 * math.sqrt((head + dh) / head))
+
+    dh = brentq(first_wave, 0.0, a * v0 / G)
+    before_return = r.t < 2 * length / a - 1e-9
+    rise = (r.valve_pressure[before_return][1:] - r.node_initial_pressure[1]) / (RHO * G)
+    assert np.allclose(rise, dh, rtol=1e-6)
+    area_ = area(0.1)
+    assert r.valve_flow[1] == pytest.approx(tau * v0 * math.sqrt((head + dh) / head) * area_)
+
+
 @pytest.mark.parametrize("head, v0", [(20.0, 0.5), (50.0, 1.0), (100.0, 2.0)])
 def test_slow_linear_closure_matches_allievi(head, v0):
     """Linear closure over 10 x 2L/a: peak head rise vs Allievi's rigid-column formula.
