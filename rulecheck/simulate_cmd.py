@@ -84,10 +84,7 @@ def run_simulate(args: argparse.Namespace, console: Console) -> int:
             f"peak {fmt(run.peak, 'pressure', units)} at t = {result.time_of_peak * 1000:.1f} ms "
             f"(screening said {fmt(event.unprotected_peak, 'pressure', units)}); minimum "
             f"{fmt(run.minimum, 'pressure', units)}",
-            f"vapour cavities: {'yes' if result.cavitation else 'none'}"
-            + "".join(
-                f"; at node {n} from {a * 1000:.1f} ms" for n, a, _ in result.cavity_events[:5]
-            ),
+            _cavities_line(run.cavities, units),
         ]
         for arrester, volume in sorted(run.sized_arresters.items()):
             lines.append(
@@ -104,6 +101,24 @@ def run_simulate(args: argparse.Namespace, console: Console) -> int:
     return EXIT_OK
 
 
+#: Cavities named in the text report; the JSON lists them all.
+_CAVITIES_SHOWN = 5
+
+
+def _cavities_line(cavities: list[Any], units: str) -> str:
+    """``vapour cavities: 3 (at H1 48.4-52.0 ms; in P4 at 1.20 ft 50.1-51.0 ms; ...)``."""
+    if not cavities:
+        return "vapour cavities: none"
+    parts = []
+    for c in cavities[:_CAVITIES_SHOWN]:
+        where = f"at {c.point}" if c.point else f"in {c.pipe} at {fmt(c.distance, 'length', units)}"
+        until = f"-{c.collapsed * 1000:.1f} ms" if c.collapsed is not None else " ms, still open"
+        parts.append(f"{where} {c.formed * 1000:.1f}{until}")
+    more = len(cavities) - _CAVITIES_SHOWN
+    tail = f"; and {more} more" if more > 0 else ""
+    return f"vapour cavities: {len(cavities)} ({'; '.join(parts)}{tail})"
+
+
 def _document(run: Any) -> dict[str, Any]:
     r, e = run.result, run.event
     return {
@@ -117,6 +132,18 @@ def _document(run: Any) -> dict[str, Any]:
         "dt": _clean(float(r.dt)),
         "max_wave_speed_adjustment": _clean(float(r.max_wave_speed_adjustment)),
         "sized_arresters": {k: _clean(v) for k, v in sorted(run.sized_arresters.items())},
+        "cavities": [
+            {
+                **(
+                    {"point": c.point}
+                    if c.point
+                    else {"pipe": c.pipe, "distance": _clean(c.distance)}
+                ),
+                "formed": _clean(c.formed),
+                "collapsed": None if c.collapsed is None else _clean(c.collapsed),
+            }
+            for c in run.cavities
+        ],
         "path": {
             pid: {
                 "max_pressure": _clean(run.path_max[pid]),

@@ -38,6 +38,17 @@ from rulecheck.physics.transient_grid import choose_time_step
 from rulecheck.surge_analysis import ValveEvent
 
 
+@dataclass(frozen=True)
+class Cavity:
+    """A vapour cavity of a run, placed on the layout."""
+
+    point: str | None  # the point it formed at, or None inside a pipe
+    pipe: str | None  # the pipe it formed in, or None at a point
+    distance: float  # from the pipe's start [m] (0 at a point)
+    formed: float  # [s]
+    collapsed: float | None  # [s]; None: still open when the run ended
+
+
 @dataclass
 class EventRun:
     event: ValveEvent
@@ -47,6 +58,7 @@ class EventRun:
     path_max: dict[str, float]  # per path pipe [Pa gauge]
     path_min: dict[str, float]
     sized_arresters: dict[str, float]  # arrester id -> equivalent gas volume [m³] we sized
+    cavities: list[Cavity]  # in the order they formed
 
 
 def equivalent_gas_volume(
@@ -96,9 +108,10 @@ def build_event_network(
     analysis: Analysis,
     event: ValveEvent,
     whole_tree: bool = True,
-) -> tuple[TransientNetwork, dict[str, float], list[str]]:
+) -> tuple[TransientNetwork, dict[str, float], list[str], list[str]]:
     """The MOC network of the event's service tree (or of its path model); also the
-    arrester volumes we sized and the layout pipe id of each transient pipe."""
+    arrester volumes we sized, the layout pipe id of each transient pipe and the layout
+    point of each transient node."""
     layout, network = analysis.layout, analysis.network
     tree = network.trees[event.side]
     root = tree.root_of[event.point]
@@ -171,7 +184,7 @@ def build_event_network(
         vapour_pressure=water.vapour_pressure,
         atmospheric=STANDARD_ATMOSPHERE,
     )
-    return net, sized, ids
+    return net, sized, ids, nodes
 
 
 # Time resolution asked of every run, besides whole reaches in each pipe [D]:
@@ -192,6 +205,7 @@ class EventSetup:
     network: TransientNetwork
     sized_arresters: dict[str, float]  # arrester id -> equivalent gas volume [m³] we sized
     pipe_ids: list[str]  # layout pipe id of each transient pipe
+    point_ids: list[str]  # layout point of each transient node
     dt: float  # [s]
     duration: float  # [s]
 
@@ -203,7 +217,7 @@ def prepare_event(
     whole_tree: bool = True,
 ) -> EventSetup:
     """The event's network with the time step its path and closure ask for."""
-    net, sized, ids = build_event_network(analysis, event, whole_tree)
+    net, sized, ids, points = build_event_network(analysis, event, whole_tree)
     shortest = min(p.length / p.wave_speed for p in net.pipes)
     wanted = min(
         shortest,
@@ -214,7 +228,7 @@ def prepare_event(
     # under it (within the search's few percent) and no pipe's wave speed moves more than that
     travel = [p.length / p.wave_speed for p in net.pipes]
     dt, _, _ = choose_time_step([*travel, wanted])
-    return EventSetup(event, net, sized, ids, dt, duration or default_duration(event))
+    return EventSetup(event, net, sized, ids, points, dt, duration or default_duration(event))
 
 
 def read_back(analysis: Analysis, setup: EventSetup, result: TransientResult) -> EventRun:
@@ -226,6 +240,18 @@ def read_back(analysis: Analysis, setup: EventSetup, result: TransientResult) ->
     path_max = {pid: float(result.pipe_max_pressure[i]) + shift for i, pid in on_path}
     path_min = {pid: float(result.pipe_min_pressure[i]) for i, pid in on_path}
     peak = float(result.peak_pressure) + shift
+
+    def ended(t: float) -> float | None:
+        return None if math.isnan(t) else t
+
+    cavities = [
+        Cavity(setup.point_ids[node], None, 0.0, t0, ended(t1))
+        for node, t0, t1 in result.cavity_events
+    ] + [
+        Cavity(None, setup.pipe_ids[pipe], x, t0, ended(t1))
+        for pipe, x, t0, t1 in result.pipe_cavity_events
+    ]
+    cavities.sort(key=lambda c: (c.formed, c.point or "", c.pipe or "", c.distance))
     return EventRun(
         event,
         result,
@@ -234,6 +260,7 @@ def read_back(analysis: Analysis, setup: EventSetup, result: TransientResult) ->
         path_max,
         path_min,
         setup.sized_arresters,
+        cavities,
     )
 
 

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import math
 from pathlib import Path
 
 import pytest
@@ -65,6 +66,27 @@ def test_peak_is_joukowsky_plus_static_within_3_percent(
         "trace",
     }
     assert len(data["trace"]["t"]) == len(data["trace"]["p"]) > 10
+    # the cavities are placed on the layout: the valve's point and pipes of the path
+    layout = analysis.layout
+    points = {c["point"] for c in data["cavities"] if "point" in c}
+    assert event.point in points
+    for c in data["cavities"]:
+        assert c["formed"] <= (c["collapsed"] if c["collapsed"] is not None else math.inf)
+        if "pipe" in c:
+            pipe = next(p for p in layout.pipes if p.id == c["pipe"])
+            assert 0.0 < c["distance"] < pipe.length
+    formed = [c["formed"] for c in data["cavities"]]
+    assert formed == sorted(formed)
+
+
+def test_text_report_names_where_the_cavities_formed(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    path = _fast_closing(tmp_path, arrester=False)
+    assert main(["simulate", str(path), "--valve", "DW1:hot"]) == 0
+    text = capsys.readouterr().out
+    line = next(row for row in text.splitlines() if row.startswith("vapour cavities:"))
+    assert "at H1 " in line and "node" not in line
 
 
 def test_sealed_arrester_at_the_valve_keeps_the_peak_under_150_psi(
@@ -72,7 +94,7 @@ def test_sealed_arrester_at_the_valve_keeps_the_peak_under_150_psi(
 ) -> None:
     data = _simulate(_fast_closing(tmp_path, arrester=True), capsys)
     assert data["peak_pressure"] < 150 * PSI
-    assert data["cavitation"] is False
+    assert data["cavitation"] is False and data["cavities"] == []
     assert "A1" in data["sized_arresters"]  # no gas_volume given: sized and reported
 
 
