@@ -52,6 +52,7 @@ class ValveEvent:
     column_separation: bool  # unprotected minimum reaches vapour pressure
     method: str = "screening"
     nearby_air_chambers: list[str] = field(default_factory=list)
+    cavity_at: str | None = None  # where a simulated column first separated: "at X" / "in P"
 
 
 @dataclass

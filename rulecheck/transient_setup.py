@@ -3,11 +3,15 @@
 The service tree that holds the valve becomes the MOC network: its root (supply or
 heater outlet) is a constant head at the root's static minimum, every other fixture
 is a closed dead end, and only the closing valve flows at the start. Sealed arresters
-on that tree are gas volumes: their own ``gas_volume``/``precharge`` when given,
-otherwise an equivalent volume sized by the energy method (below) and flagged.
-``check --transient`` simulates a path model (the valve's path to the root plus the
-pipes to nearby arresters; other branches and their partial reflections left out [D])
-to keep whole-building runs fast; ``simulate`` runs the whole service tree.
+on that tree are gas volumes: their own ``gas_volume`` when given, otherwise an
+equivalent volume at the static pressure sized by the energy method (below) and
+flagged. A ``precharge`` from the layout puts the piston on a stop below that pressure;
+without one the gas follows p·Vⁿ = const both ways (engineering-basis §10), so that an
+assumed precharge does not make a piston slam onto its stop.
+``simulate`` runs the whole service tree. ``check --transient`` does too for trees of
+up to ``WHOLE_TREE_PIPES`` pipes; on larger trees it simulates a path model (the
+valve's path to the root plus the pipe to the credited arrester; other branches and
+their reflections left out [D]) to keep whole-building runs fast, and says so.
 The peak is shifted by (static max − static min) at the valve: exact superposition
 of the static head for the linear equations, an approximation once cavities form [D].
 """
@@ -17,6 +21,7 @@ from __future__ import annotations
 import math
 import multiprocessing as mp
 import os
+from collections import Counter
 from collections.abc import Callable
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass
@@ -170,8 +175,16 @@ def build_event_network(
                 analysis.profile.polytropic_exponent,
             )
             sized[arrester.id] = volume
+        # a precharge from the layout is a piston on its stop below that pressure; without
+        # one, the gas volume follows p V^n = const both ways (engineering-basis §10)
         gas.append(
-            GasArrester(index[arrester.at], volume, precharge, analysis.profile.polytropic_exponent)
+            GasArrester(
+                index[arrester.at],
+                volume,
+                precharge,
+                analysis.profile.polytropic_exponent,
+                stop=arrester.precharge is not None,
+            )
         )
     net = TransientNetwork(
         n_nodes=len(nodes),
@@ -281,25 +294,66 @@ def run_event(
 #: benchmarks/bench_transient.py; larger batches waste steps on their shorter events].
 BATCH_EVENTS = 64
 
+#: ``check --transient`` simulates service trees of up to this many pipes whole, larger
+#: ones by the path model [D]. Measured (2026-12-02, ``python
+#: benchmarks/path_vs_whole.py``: every quick valve of the samples and every 19th of
+#: the benchmark tower, 101 events): the path model's peak was 0.97 to 1.14 times the
+#: whole tree's (median 1.02), with the same cavitation verdicts. Whole 200-pipe riser
+#: trees of the tower would cost about 50 times their path models (section-steps), beyond
+#: the 10 s budget of a 500-fixture building.
+WHOLE_TREE_PIPES = 60
+
+METHOD_WHOLE = "transient (whole service tree)"
+METHOD_PATH = "transient (path model)"
+
 _WORK: Analysis | None = None  # the analysis a forked worker process reads
 
 
-def _run_batch(indices: list[int]) -> list[tuple[float, float, bool]]:
-    """Path-model runs of some of ``_WORK``'s events, stacked into one simulation."""
+Outcome = tuple[float, float, bool, str | None]  # peak, minimum, cavitation, first cavity
+
+
+def _where(cavity: Cavity) -> str:
+    return f"at {cavity.point}" if cavity.point else f"in pipe {cavity.pipe}"
+
+
+def _run_batch(batch: list[tuple[int, bool]]) -> list[Outcome]:
+    """Runs of some of ``_WORK``'s events (index, whole tree?), stacked into one simulation."""
     assert _WORK is not None
     analysis = _WORK
-    setups = [prepare_event(analysis, analysis.surge.events[i], whole_tree=False) for i in indices]
+    setups = [
+        prepare_event(analysis, analysis.surge.events[i], whole_tree=whole) for i, whole in batch
+    ]
     results = simulate_many(
         [s.network for s in setups], [s.duration for s in setups], [s.dt for s in setups]
     )
     runs = [read_back(analysis, s, r) for s, r in zip(setups, results, strict=True)]
-    return [(run.peak, run.minimum, bool(run.result.cavitation)) for run in runs]
+    return [
+        (
+            run.peak,
+            run.minimum,
+            bool(run.result.cavitation),
+            _where(run.cavities[0]) if run.cavities else None,
+        )
+        for run in runs
+    ]
 
 
-def _batches(analysis: Analysis, todo: list[int]) -> list[list[int]]:
+def _whole_tree(analysis: Analysis, todo: list[int]) -> dict[int, bool]:
+    """Whether each event's service tree is small enough to simulate whole."""
+    sizes = {side: Counter(tree.root_of.values()) for side, tree in analysis.network.trees.items()}
+    found = {}
+    for i in todo:
+        event = analysis.surge.events[i]
+        root = analysis.network.trees[event.side].root_of[event.point]
+        found[i] = sizes[event.side][root] - 1 <= WHOLE_TREE_PIPES  # nodes - 1 = pipes
+    return found
+
+
+def _batches(analysis: Analysis, todo: list[int]) -> list[list[tuple[int, bool]]]:
     """Events in runs of ``BATCH_EVENTS``, grouped by about how many steps they take (the
     stacked run lasts as long as its longest member); fixed by the layout alone, so the
     results do not depend on the number of workers."""
+    whole = _whole_tree(analysis, todo)
 
     def steps(i: int) -> float:
         event = analysis.surge.events[i]
@@ -308,7 +362,8 @@ def _batches(analysis: Analysis, todo: list[int]) -> list[list[int]]:
             wanted = min(wanted, event.closure_time / CLOSURE_STEPS)
         return default_duration(event) / wanted
 
-    ordered = sorted(todo, key=lambda i: (-steps(i), i))  # longest first: workers end together
+    ordered = [(i, whole[i]) for i in sorted(todo, key=lambda i: (-steps(i), i))]
+    # longest first, so that the workers end together
     return [ordered[j : j + BATCH_EVENTS] for j in range(0, len(ordered), BATCH_EVENTS)]
 
 
@@ -336,17 +391,18 @@ def apply_transient(
     finally:
         _WORK = None
     found = {
-        i: out
+        i: (whole, out)
         for batch, outs in zip(batches, outcomes, strict=True)
-        for i, out in zip(batch, outs, strict=True)
+        for (i, whole), out in zip(batch, outs, strict=True)
     }
     for index in todo:
-        peak, minimum, cavitation = found[index]
+        whole, (peak, minimum, cavitation, cavity_at) = found[index]
         event = analysis.surge.events[index]
         if not math.isfinite(peak):
             raise RuntimeError(f"transient run for {event.fixture.id} diverged")
-        event.method = "transient (path model)"
+        event.method = METHOD_WHOLE if whole else METHOD_PATH
         event.unprotected_peak = event.peak = peak
         event.surge = peak - event.static_max
         event.min_pressure = minimum
         event.column_separation = cavitation
+        event.cavity_at = cavity_at

@@ -60,6 +60,7 @@ CASES = [
     (single_pipe(30.0, arresters=(GasArrester(1, 2e-3, 2e5),)), 0.5, 0.002),  # arrester at valve
     (tee(0.02, closure=0.05, branches=3), 0.5, None),  # junction, friction, chosen dt
     (hot_branch(), 0.3, None),  # other fluid, arrester off the valve, closure table
+    (single_pipe(25.0, arresters=(GasArrester(1, 1e-3, 3e5, stop=False),)), 0.4, 0.0025),
 ]
 
 
@@ -139,36 +140,52 @@ def test_stacked_run_checks_its_arguments() -> None:
         simulate_many([single_pipe(), bad], [0.1, 0.1])
 
 
-def _transient_numbers(monkeypatch: pytest.MonkeyPatch, batch: int, workers: int) -> list:
+def _transient_numbers(
+    monkeypatch: pytest.MonkeyPatch, batch: int, workers: int, whole: bool
+) -> list:
     from rulecheck import transient_setup
 
     monkeypatch.setattr(transient_setup, "BATCH_EVENTS", batch)
+    monkeypatch.setattr(transient_setup, "WHOLE_TREE_PIPES", 1000 if whole else 0)
     analysis = analyse_file(SAMPLES / "fernhill-clinic.yaml")
     transient_setup.apply_transient(analysis, workers=workers)
     return [
-        (e.fixture.id, e.side, e.peak, e.min_pressure, e.column_separation)
+        (e.fixture.id, e.side, e.peak, e.min_pressure, e.column_separation, e.method)
         for e in analysis.surge.events
         if e.quick
     ]
 
 
+@pytest.mark.parametrize("whole", [True, False], ids=["whole tree", "path model"])
 def test_check_transient_does_not_depend_on_grouping_or_workers(
-    monkeypatch: pytest.MonkeyPatch,
+    monkeypatch: pytest.MonkeyPatch, whole: bool
 ) -> None:
     """Batches of 5 on two workers, one batch on one worker, and one run per event agree."""
-    from rulecheck.transient_setup import run_event
+    from rulecheck.transient_setup import METHOD_PATH, METHOD_WHOLE, run_event
 
-    small = _transient_numbers(monkeypatch, 5, 2)
-    whole = _transient_numbers(monkeypatch, 1000, 1)
+    small = _transient_numbers(monkeypatch, 5, 2, whole)
+    one = _transient_numbers(monkeypatch, 1000, 1, whole)
     analysis = analyse_file(SAMPLES / "fernhill-clinic.yaml")
     alone = []
     for e in (e for e in analysis.surge.events if e.quick):
-        run = run_event(analysis, e, whole_tree=False)
+        run = run_event(analysis, e, whole_tree=whole)
         alone.append((e.fixture.id, e.side, run.peak, run.minimum, run.result.cavitation))
-    assert len(small) == len(whole) == len(alone) > 20
-    for a, b, c in zip(small, whole, alone, strict=True):
+    assert len(small) == len(one) == len(alone) > 20
+    for a, b, c in zip(small, one, alone, strict=True):
         assert a[:2] == b[:2] == c[:2]
         assert a[2] == pytest.approx(b[2], rel=1e-9) and a[2] == pytest.approx(c[2], rel=1e-9)
         assert a[3] == pytest.approx(b[3], rel=1e-9, abs=1e-3)
         assert a[3] == pytest.approx(c[3], rel=1e-9, abs=1e-3)
         assert a[4] == b[4] == c[4]
+        assert a[5] == b[5] == (METHOD_WHOLE if whole else METHOD_PATH)
+
+
+def test_small_service_trees_are_simulated_whole() -> None:
+    """The samples' trees (6-15 pipes) are under the limit: every event runs whole."""
+    from rulecheck.transient_setup import METHOD_WHOLE, WHOLE_TREE_PIPES, apply_transient
+
+    analysis = analyse_file(SAMPLES / "corner-bistro.yaml")
+    sizes = [len(tree.root_of) - 1 for tree in analysis.network.trees.values()]
+    assert max(sizes) <= WHOLE_TREE_PIPES
+    apply_transient(analysis, workers=1)
+    assert {e.method for e in analysis.surge.events if e.quick} == {METHOD_WHOLE}

@@ -233,6 +233,37 @@ def test_gas_arrester_lowers_peak_and_follows_gas_law():
     assert prot.peak_pressure + P_ATM == pytest.approx(p1 * (v1 / v2) ** n, rel=0.05)
 
 
+def test_arrester_without_a_stop_swings_both_ways_like_a_gas_spring():
+    """A gas volume without a piston stop (no precharge given in a layout) compresses and
+    then expands past its starting volume: both extreme volumes are the roots of the
+    rigid-column energy balance of the previous test (the column at rest), the smaller
+    within 1 %, the larger within 5 % [D: water-column energy against polytropic work;
+    the elastic pipe stores a little of the energy]. With a stop at the starting volume
+    the gas never expands past it.
+    """
+    length, d, a, v0, head = 20.0, 0.02, 1300.0, 1.5, 40.0
+    p_static = RHO * G * head + P_ATM
+    dt = length / a / 20
+    free = GasArrester(1, 100e-6, p_static, stop=False)
+    r = simulate(single_pipe(length, a, d, v0, head, arresters=(free,)), 0.4, dt=dt)
+    vol = r.arrester_gas[0]
+    n = free.polytropic_exponent
+    p1, v1 = r.node_initial_pressure[1] + P_ATM, vol[0]
+    ke = 0.5 * RHO * length * area(d) * v0**2
+
+    def balance(v: float) -> float:
+        return ke + p1 * (v1 - v) - (p1 * (v1 / v) ** n * v - p1 * v1) / (n - 1)
+
+    smallest = brentq(balance, 1e-3 * v1, v1 * (1 - 1e-12))
+    largest = brentq(balance, v1 * (1 + 1e-12), 100 * v1)
+    assert vol.min() == pytest.approx(smallest, rel=0.01)
+    assert vol.max() == pytest.approx(largest, rel=0.05)
+    assert not r.cavitation
+    stopped = GasArrester(1, 100e-6, p_static)
+    s = simulate(single_pipe(length, a, d, v0, head, arresters=(stopped,)), 0.4, dt=dt)
+    assert s.arrester_gas[0].max() <= stopped.gas_volume * (1 + 1e-12)
+
+
 @pytest.mark.parametrize("branches", [2, 3])
 def test_junction_conserves_mass(branches):
     """Junction continuity: sum of pipe flows at the junction is zero at every step.

@@ -110,12 +110,24 @@ def column_separation(ctx: RuleContext) -> Iterator[Finding]:
             continue
         water = ctx.analysis.water_for(e.side)
         vapour_gauge = water.vapour_pressure - STANDARD_ATMOSPHERE
+        if e.cavity_at in (None, f"at {e.point}"):
+            where = (
+                f"the pressure wave drops {e.point} to {ctx.fmt(e.min_pressure, 'pressure')} "
+                f"(gauge, {e.method}), down to vapour pressure"
+            )
+            measured = e.min_pressure
+        else:  # the simulation found the first cavity away from the valve
+            where = (
+                f"the pressure wave drops the water {e.cavity_at} to vapour pressure "
+                f"({e.method}; {e.point} itself falls to "
+                f"{ctx.fmt(e.min_pressure, 'pressure')} gauge)"
+            )
+            measured = vapour_gauge
         yield ctx.finding(
             e.fixture.id,
-            f"valve {_valve(ctx, e)}: the pressure wave drops {e.point} to "
-            f"{ctx.fmt(e.min_pressure, 'pressure')} (gauge, {e.method}), down to vapour "
-            "pressure: the column separates and its collapse can exceed the Joukowsky peak",
-            measured=e.min_pressure,
+            f"valve {_valve(ctx, e)}: {where}: the column separates and its collapse can "
+            "exceed the Joukowsky peak",
+            measured=measured,
             limit=vapour_gauge,
             kind="pressure",
             method=e.method,

@@ -138,7 +138,7 @@ def valve_heads(
 
 
 #: Newton on the arrester gas volume stops when a step moves it by less than this
-#: fraction of the precharge volume (relative pressure error ~1e-11) [D: numerical
+#: fraction of the gas volume (relative pressure error ~1e-11) [D: numerical
 #: tolerance]; it gives up after ``_NEWTON_TURNS`` turns.
 _NEWTON_TOLERANCE = 1e-11
 _NEWTON_TURNS = 60
@@ -178,9 +178,9 @@ class ArresterBank:
         p_atm: np.ndarray,
         valve: np.ndarray,
     ) -> None:
-        """Per arrester: node, elevation z [m], K = p_abs V^n [Pa m^3n], n [-], precharge
-        volume [m^3], volume [m^3], on its stop [bool], dt [s], rho g [N/m^3], p_atm [Pa],
-        index of the valve at its node or -1."""
+        """Per arrester: node, elevation z [m], K = p_abs V^n [Pa m^3n], n [-], volume at
+        the piston stop [m^3] (inf: no stop), volume [m^3], on its stop [bool], dt [s],
+        rho g [N/m^3], p_atm [Pa], index of the valve at its node or -1."""
         self.node = node
         self.z = z
         self.constant = constant
@@ -229,7 +229,7 @@ class ArresterBank:
         # H(V) = base + p(V) / (rho g), p = K V^-n; dH/dV = -n p / (V rho g)
         base, neg_n, slope_of = z - p_atm * inv_rho_g, -n, -n * inv_rho_g
         rest = sc + q_old - two_dt * v_old  # f(V) = rest - S_B H - Q_valve + 2 V / dt
-        half_cv, closed_tol = 0.5 * cv, _NEWTON_TOLERANCE * v_max
+        half_cv, tol = 0.5 * cv, _NEWTON_TOLERANCE * v_old
         any_valve = bool((cv > 0.0).any())
         # start from the trend of the last two steps: Newton then needs one or two turns
         v = np.minimum(np.maximum(v_old + (v_old - self.previous[i]), 0.5 * v_old), v_max)
@@ -246,7 +246,7 @@ class ArresterBank:
                 ds = sb + half_cv * s / np.maximum(s * s, 1e-18)
             v_new = v - f / (two_dt - ds * (slope_of * p / v))
             v_new = np.where(going, np.where(v_new <= 0.0, 0.5 * v, v_new), v)
-            going &= np.abs(v_new - v) > closed_tol
+            going &= np.abs(v_new - v) > tol
             v = v_new
             if not going.any():
                 break

@@ -41,12 +41,19 @@ class ClosingValve:
 
 @dataclass(frozen=True)
 class GasArrester:
-    """A sealed gas arrester at a node: polytropic gas p_abs V^n = const behind a piston."""
+    """A sealed gas arrester at a node: polytropic gas p_abs V^n = const behind a piston.
+
+    With ``stop`` the piston rests on a stop at ``gas_volume``: below ``precharge``
+    the arrester takes no flow, and a piston returning to the stop halts its outflow at
+    once. Without it the gas volume follows p V^n = const both ways, (``gas_volume``,
+    ``precharge``) being one point of that curve (engineering-basis §10's gas volume).
+    """
 
     node: int
-    gas_volume: float  # gas volume at precharge (piston on its stop) [m^3]
+    gas_volume: float  # gas volume at ``precharge`` [m^3]
     precharge: float  # absolute gas pressure at that volume [Pa]
     polytropic_exponent: float = POLYTROPIC_EXPONENT  # [-] [CP]
+    stop: bool = True  # a piston stop at ``gas_volume``
 
 
 @dataclass(frozen=True)

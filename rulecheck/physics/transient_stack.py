@@ -129,18 +129,21 @@ class NetworkStack:
         net = np.array([i for i, _, _ in found], dtype=np.int64)
         node = np.array([n for _, _, n in found], dtype=np.int64)
         gas = np.array([a.gas_volume for _, a, _ in found])
+        stop = np.array([a.stop for _, a, _ in found], dtype=bool)
         precharge = np.array([a.precharge for _, a, _ in found])
         n = np.array([a.polytropic_exponent for _, a, _ in found])
         const = precharge * gas**n
         p0 = self.rho_g[net] * (node_h0[node] - self.elev[node]) + self.p_atm[net]
-        on_stop = p0 <= precharge
+        on_stop = stop & (p0 <= precharge)
+        if np.any(~on_stop & (p0 <= 0.0)):
+            raise ValueError("an arrester's node starts at an absolute pressure <= 0")
         volume = np.where(on_stop, gas, (const / np.where(on_stop, precharge, p0)) ** (1.0 / n))
         bank = ArresterBank(
             node=node,
             z=self.elev[node],
             constant=const,
             exponent=n,
-            v_max=gas,
+            v_max=np.where(stop, gas, np.inf),
             volume=volume,
             on_stop=on_stop,
             dt=step[net],
