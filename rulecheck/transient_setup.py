@@ -312,8 +312,14 @@ _WORK: Analysis | None = None  # the analysis a forked worker process reads
 Outcome = tuple[float, float, bool, str | None]  # peak, minimum, cavitation, first cavity
 
 
-def _where(cavity: Cavity) -> str:
-    return f"at {cavity.point}" if cavity.point else f"in pipe {cavity.pipe}"
+def _first_cavity(run: EventRun) -> str | None:
+    """Where the column separated: at the valve if it did there, else the first cavity."""
+    if not run.cavities:
+        return None
+    if any(c.point == run.event.point for c in run.cavities):
+        return f"at {run.event.point}"
+    first = run.cavities[0]
+    return f"at {first.point}" if first.point else f"in pipe {first.pipe}"
 
 
 def _run_batch(batch: list[tuple[int, bool]]) -> list[Outcome]:
@@ -332,7 +338,7 @@ def _run_batch(batch: list[tuple[int, bool]]) -> list[Outcome]:
             run.peak,
             run.minimum,
             bool(run.result.cavitation),
-            _where(run.cavities[0]) if run.cavities else None,
+            _first_cavity(run),
         )
         for run in runs
     ]

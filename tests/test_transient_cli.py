@@ -137,3 +137,24 @@ def test_wave_speed_adjustment_stays_within_a_few_percent_on_every_sample_valve(
             run = run_event(analysis, event, whole_tree=False)
             worst = max(worst, run.result.max_wave_speed_adjustment)
     assert 0.0 <= worst <= 0.05
+
+
+def test_column_separation_away_from_the_valve_is_placed_and_measured_at_vapour() -> None:
+    """A simulated cavity elsewhere on the tree: the finding names that place, and its
+    measured value is the vapour pressure reached there, not the valve's own minimum."""
+    from rulecheck.engine import run_rules
+    from rulecheck.physics.surge import STANDARD_ATMOSPHERE
+
+    analysis = analyse_file(CASES / "surge-peak" / "fail.yaml")
+    event = analysis.surge.events[0]
+    event.column_separation, event.method = True, "transient (whole service tree)"
+    event.min_pressure, event.cavity_at = 20 * PSI, "in pipe P2"
+    found = [f for f in run_rules(analysis) if f.rule == "column-separation"]
+    assert len(found) == 1
+    assert "the water in pipe P2 to vapour pressure" in found[0].message
+    vapour = analysis.water_for(event.side).vapour_pressure - STANDARD_ATMOSPHERE
+    assert found[0].measured == pytest.approx(vapour)
+    event.cavity_at = f"at {event.point}"  # at the valve: the valve's minimum is the number
+    found = [f for f in run_rules(analysis) if f.rule == "column-separation"]
+    assert found[0].measured == pytest.approx(20 * PSI)
+    assert f"drops {event.point} to" in found[0].message
