@@ -91,6 +91,11 @@ def run_simulate(args: argparse.Namespace, console: Console) -> int:
                 f"arrester {arrester}: no gas_volume given; an equivalent "
                 f"{volume * 1e6:.0f} mL was sized from its class by the energy method"
             )
+        if run.unstopped_arresters:
+            lines.append(
+                "arresters without a precharge (each a gas volume without a piston stop): "
+                + ", ".join(sorted(run.unstopped_arresters))
+            )
         lines.append("along the path (max / min):")
         lines += [
             f"  {pid}: {fmt(run.path_max[pid], 'pressure', units)} / "
@@ -132,6 +137,7 @@ def _document(run: Any) -> dict[str, Any]:
         "dt": _clean(float(r.dt)),
         "max_wave_speed_adjustment": _clean(float(r.max_wave_speed_adjustment)),
         "sized_arresters": {k: _clean(v) for k, v in sorted(run.sized_arresters.items())},
+        "arresters_without_precharge": sorted(run.unstopped_arresters),
         "cavities": [
             {
                 **(

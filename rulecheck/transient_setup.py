@@ -63,6 +63,7 @@ class EventRun:
     path_max: dict[str, float]  # per path pipe [Pa gauge]
     path_min: dict[str, float]
     sized_arresters: dict[str, float]  # arrester id -> equivalent gas volume [m³] we sized
+    unstopped_arresters: list[str]  # no precharge given: a gas volume without a piston stop
     cavities: list[Cavity]  # in the order they formed
 
 
@@ -109,14 +110,23 @@ def _path_nodes(analysis: Analysis, event: ValveEvent) -> set[str]:
     return keep
 
 
+@dataclass
+class EventModel:
+    """The MOC network of one valve event, and how its parts map back to the layout."""
+
+    network: TransientNetwork
+    pipe_ids: list[str]  # layout pipe id of each transient pipe
+    point_ids: list[str]  # layout point of each transient node
+    sized_arresters: dict[str, float]  # arrester id -> equivalent gas volume [m³] we sized
+    unstopped_arresters: list[str]  # no precharge given: a gas volume without a piston stop
+
+
 def build_event_network(
     analysis: Analysis,
     event: ValveEvent,
     whole_tree: bool = True,
-) -> tuple[TransientNetwork, dict[str, float], list[str], list[str]]:
-    """The MOC network of the event's service tree (or of its path model); also the
-    arrester volumes we sized, the layout pipe id of each transient pipe and the layout
-    point of each transient node."""
+) -> EventModel:
+    """The MOC network of the event's service tree (or of its path model)."""
     layout, network = analysis.layout, analysis.network
     tree = network.trees[event.side]
     root = tree.root_of[event.point]
@@ -150,6 +160,7 @@ def build_event_network(
     elevation = tuple(network.elevation[n] for n in nodes)
     head = analysis.static_min[root] / (water.density * G) + network.elevation[root]
     sized: dict[str, float] = {}
+    unstopped: list[str] = []
     gas = []
     energy = (
         0.5
@@ -175,6 +186,8 @@ def build_event_network(
                 analysis.profile.polytropic_exponent,
             )
             sized[arrester.id] = volume
+        if arrester.precharge is None:
+            unstopped.append(arrester.id)
         # a precharge from the layout is a piston on its stop below that pressure; without
         # one, the gas volume follows p V^n = const both ways (engineering-basis §10)
         gas.append(
@@ -197,7 +210,7 @@ def build_event_network(
         vapour_pressure=water.vapour_pressure,
         atmospheric=STANDARD_ATMOSPHERE,
     )
-    return net, sized, ids, nodes
+    return EventModel(net, ids, nodes, sized, unstopped)
 
 
 # Time resolution asked of every run, besides whole reaches in each pipe [D]:
@@ -215,12 +228,13 @@ class EventSetup:
     """One valve event ready to run: its network, time step and duration."""
 
     event: ValveEvent
-    network: TransientNetwork
-    sized_arresters: dict[str, float]  # arrester id -> equivalent gas volume [m³] we sized
-    pipe_ids: list[str]  # layout pipe id of each transient pipe
-    point_ids: list[str]  # layout point of each transient node
+    model: EventModel
     dt: float  # [s]
     duration: float  # [s]
+
+    @property
+    def network(self) -> TransientNetwork:
+        return self.model.network
 
 
 def prepare_event(
@@ -230,7 +244,8 @@ def prepare_event(
     whole_tree: bool = True,
 ) -> EventSetup:
     """The event's network with the time step its path and closure ask for."""
-    net, sized, ids, points = build_event_network(analysis, event, whole_tree)
+    model = build_event_network(analysis, event, whole_tree)
+    net = model.network
     shortest = min(p.length / p.wave_speed for p in net.pipes)
     wanted = min(
         shortest,
@@ -241,7 +256,7 @@ def prepare_event(
     # under it (within the search's few percent) and no pipe's wave speed moves more than that
     travel = [p.length / p.wave_speed for p in net.pipes]
     dt, _, _ = choose_time_step([*travel, wanted])
-    return EventSetup(event, net, sized, ids, points, dt, duration or default_duration(event))
+    return EventSetup(event, model, dt, duration or default_duration(event))
 
 
 def read_back(analysis: Analysis, setup: EventSetup, result: TransientResult) -> EventRun:
@@ -249,7 +264,8 @@ def read_back(analysis: Analysis, setup: EventSetup, result: TransientResult) ->
     event = setup.event
     shift = event.static_max - event.static_min
     path_ids = {analysis.layout.pipes[k].id for k in event.path}
-    on_path = [(i, pid) for i, pid in enumerate(setup.pipe_ids) if pid in path_ids]
+    model = setup.model
+    on_path = [(i, pid) for i, pid in enumerate(model.pipe_ids) if pid in path_ids]
     path_max = {pid: float(result.pipe_max_pressure[i]) + shift for i, pid in on_path}
     path_min = {pid: float(result.pipe_min_pressure[i]) for i, pid in on_path}
     peak = float(result.peak_pressure) + shift
@@ -258,13 +274,13 @@ def read_back(analysis: Analysis, setup: EventSetup, result: TransientResult) ->
         return None if math.isnan(t) else t
 
     cavities = [
-        Cavity(setup.point_ids[node], None, 0.0, t0, ended(t1))
+        Cavity(model.point_ids[node], None, 0.0, t0, ended(t1))
         for node, t0, t1 in result.cavity_events
     ] + [
-        Cavity(None, setup.pipe_ids[pipe], x, t0, ended(t1))
+        Cavity(None, model.pipe_ids[pipe], x, t0, ended(t1))
         for pipe, x, t0, t1 in result.pipe_cavity_events
     ]
-    cavities.sort(key=lambda c: (c.formed, c.point or "", c.pipe or "", c.distance))
+    cavities.sort(key=lambda c: (c.formed, c.point is None, c.point or c.pipe or "", c.distance))
     return EventRun(
         event,
         result,
@@ -272,7 +288,8 @@ def read_back(analysis: Analysis, setup: EventSetup, result: TransientResult) ->
         float(result.min_pressure),
         path_max,
         path_min,
-        setup.sized_arresters,
+        model.sized_arresters,
+        model.unstopped_arresters,
         cavities,
     )
 

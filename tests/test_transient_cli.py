@@ -96,6 +96,7 @@ def test_sealed_arrester_at_the_valve_keeps_the_peak_under_150_psi(
     assert data["peak_pressure"] < 150 * PSI
     assert data["cavitation"] is False and data["cavities"] == []
     assert "A1" in data["sized_arresters"]  # no gas_volume given: sized and reported
+    assert data["arresters_without_precharge"] == ["A1"]  # and modelled without a stop
 
 
 def test_csv_trace_and_bad_valve(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
