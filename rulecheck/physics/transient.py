@@ -1,8 +1,10 @@
 """Water-hammer transient of a pipe tree by the method of characteristics (pure numpy, no I/O).
 
 One closing valve, constant-head roots, closed dead ends, junctions, sealed gas
-arresters and vapour cavities (discrete vapour cavity model). Input and output
-are plain SI dataclasses; the layout adapter lives elsewhere.
+arresters and vapour cavities (discrete vapour cavity model). ``simulate`` runs one
+network; ``simulate_many`` advances several independent networks in the same
+vectorised steps, each on its own dt. Input and output are plain SI dataclasses
+(:mod:`rulecheck.physics.transient_network`); the layout adapter lives elsewhere.
 
 References
 ----------
