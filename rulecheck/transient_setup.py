@@ -5,8 +5,9 @@ heater outlet) is a constant head at the root's static minimum, every other fixt
 is a closed dead end, and only the closing valve flows at the start. Sealed arresters
 on that tree are gas volumes: their own ``gas_volume`` when given (at the precharge,
 or at the static pressure when no precharge is given), otherwise an equivalent volume
-at the static pressure sized by the energy method (below) and flagged. A ``precharge`` from the layout puts the piston on a stop below that pressure;
-without one the gas follows p·Vⁿ = const both ways (engineering-basis §10), so that an
+at the static pressure sized by the energy method (below) and flagged. A
+``precharge`` from the layout puts the piston on a stop below that pressure; without
+one the gas follows p·Vⁿ = const both ways (engineering-basis §10), so that an
 assumed precharge does not make a piston slam onto its stop.
 ``simulate`` runs the whole service tree. ``check --transient`` does too for trees of
 up to ``WHOLE_TREE_PIPES`` pipes; on larger trees it simulates a path model (the
