@@ -335,7 +335,7 @@ def _run(
             Hn[bare_nodes] = valve_heads(sc[bare_nodes], bare_sb, cv[bare_idx], bare_zv)[0]
         if bank is not None:
             # a cavity holding an arrester's node keeps its piston on the stop
-            free = cav.node_vol[bank.node] <= 0.0
+            free = cav.at_nodes.vol[bank.node] <= 0.0
             i = arr_all if free.all() else arr_all[free]
             at = bank.node[i]
             heads, changed = bank.step(

@@ -21,6 +21,7 @@ References
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 
 import numpy as np
 
@@ -262,6 +263,59 @@ class ArresterBank:
         return head
 
 
+class CavityPlaces:
+    """Vapour cavities of one kind of place (nodes, or interior pipe sections): per place
+    its vapour head, dt, last recorded step, cavity volume and largest volume, and the
+    cavity events (formed, collapsed) up to each place's last recorded step."""
+
+    def __init__(
+        self,
+        hv: np.ndarray,
+        dt: np.ndarray,
+        end: np.ndarray,
+        label: Callable[[int], list[float]],
+    ) -> None:
+        self.hv = hv  # vapour head [m]; -inf where no cavity may form
+        self.onset = hv - CAVITY_ONSET_TOLERANCE
+        self.dt = dt  # [s]
+        self.end = end  # last recorded step
+        self.vol = np.zeros(hv.size)  # cavity volume [m^3]
+        self.net = np.zeros(hv.size)  # outflow minus inflow at the last step [m^3/s]
+        self.largest = np.zeros(hv.size)  # largest cavity volume [m^3]
+        self.n_open = 0
+        self.events: list[list[float]] = []  # [*label, t formed, t collapsed or nan]
+        self._label = label
+        self._open: dict[int, int] = {}
+
+    def candidates(self, head: np.ndarray) -> np.ndarray | None:
+        """Places holding a cavity or whose liquid head fell below vapour; None if none."""
+        if not self.n_open and not (head < self.onset).any():
+            return None
+        return np.flatnonzero((self.vol > 0.0) | (head < self.onset))
+
+    def advance(self, cand: np.ndarray, net: np.ndarray, k: int) -> np.ndarray:
+        """Grow or shrink the cavities at ``cand`` by ``net`` outflow [m^3/s] after step
+        ``k``; return which of them hold a cavity now."""
+        old = self.vol[cand]
+        vol = old + self.dt[cand] * (CAVITY_WEIGHT * net + (1.0 - CAVITY_WEIGHT) * self.net[cand])
+        keep = vol > 0.0
+        self.vol[cand] = np.where(keep, vol, 0.0)
+        self.net[cand] = np.where(keep, net, 0.0)
+        self.n_open = int(keep.sum())
+        recorded = self.end[cand] >= k
+        live = keep & recorded
+        if live.any():
+            j = cand[live]
+            self.largest[j] = np.maximum(self.largest[j], vol[live])
+        for i in cand[(old <= 0.0) & live].tolist():
+            self._open[i] = len(self.events)
+            self.events.append([*self._label(i), k * float(self.dt[i]), math.nan])
+        for i in cand[(old > 0.0) & ~keep & recorded].tolist():
+            if i in self._open:
+                self.events[self._open.pop(i)][-1] = k * float(self.dt[i])
+        return keep
+
+
 class CavityTracker:
     """Discrete vapour cavity model (DVCM) at nodes and interior sections, vectorised by masks.
 
@@ -276,7 +330,8 @@ class CavityTracker:
 
     Every node and section carries its own dt and last step (networks of one
     run may differ in both); cavity events and the largest volume are recorded
-    up to that last step only.
+    up to that last step only. Node events are [node, t0, t1], section events
+    [pipe, x, t0, t1].
     """
 
     def __init__(
@@ -292,54 +347,28 @@ class CavityTracker:
         node_end: np.ndarray,
         sec_end: np.ndarray,
     ) -> None:
-        self.node_hv = node_hv  # -inf where no cavity may form
-        self.node_hv_onset = node_hv - CAVITY_ONSET_TOLERANCE
-        self.sec_hv = sec_hv  # -inf at pipe ends
-        self.sec_hv_onset = sec_hv - CAVITY_ONSET_TOLERANCE
+        self.at_nodes = CavityPlaces(node_hv, node_dt, node_end, lambda i: [i])
+        self.in_pipes = CavityPlaces(  # sec_hv is -inf at pipe ends
+            sec_hv, sec_dt, sec_end, lambda i: [int(sec_pipe[i]), float(sec_x[i])]
+        )
         self.node_sb = node_sb
         self.sec_invb = 1.0 / sec_b
-        self.sec_pipe = sec_pipe
-        self.sec_x = sec_x
-        self.node_dt, self.sec_dt = node_dt, sec_dt  # [s]
-        self.node_end, self.sec_end = node_end, sec_end  # last recorded step
-        self.node_vol = np.zeros(node_hv.size)
-        self.node_net = np.zeros(node_hv.size)
-        self.sec_vol = np.zeros(sec_hv.size)
-        self.sec_net = np.zeros(sec_hv.size)
-        self.node_max = np.zeros(node_hv.size)  # largest cavity volume per node [m^3]
-        self.sec_max = np.zeros(sec_hv.size)
-        self.n_node = 0  # open cavities
-        self.n_sec = 0
-        self.node_events: list[list[float]] = []  # [node, t formed, t collapsed or nan]
-        self.sec_events: list[list[float]] = []  # [pipe, x, t formed, t collapsed or nan]
-        self._node_open: dict[int, int] = {}
-        self._sec_open: dict[int, int] = {}
 
     def allow_node(self, node: np.ndarray, hv: np.ndarray) -> None:
         """Let cavities form at ``node`` (hv = vapour head) or forbid them (hv = -inf)."""
-        self.node_hv[node] = hv
-        self.node_hv_onset[node] = hv - CAVITY_ONSET_TOLERANCE
+        self.at_nodes.hv[node] = hv
+        self.at_nodes.onset[node] = hv - CAVITY_ONSET_TOLERANCE
 
     def nodes(self, head: np.ndarray, sc: np.ndarray, k: int) -> None:
         """Apply the DVCM at nodes after step ``k``: ``head`` (liquid solution) is
         overwritten in place."""
-        if not self.n_node and not (head < self.node_hv_onset).any():
+        cand = self.at_nodes.candidates(head)
+        if cand is None:
             return
-        cand = np.flatnonzero((self.node_vol > 0.0) | (head < self.node_hv_onset))
-        hv = self.node_hv[cand]
+        hv = self.at_nodes.hv[cand]
         net = hv * self.node_sb[cand] - sc[cand]  # outflow minus inflow at head hv
-        old = self.node_vol[cand]
-        vol = old + self.node_dt[cand] * (
-            CAVITY_WEIGHT * net + (1.0 - CAVITY_WEIGHT) * self.node_net[cand]
-        )
-        keep = vol > 0.0
-        kept = cand[keep]
-        head[kept] = hv[keep]
-        self.node_vol[cand] = np.where(keep, vol, 0.0)
-        self.node_net[cand] = np.where(keep, net, 0.0)
-        self.n_node = int(kept.size)
-        self._record(cand, vol, keep, k, self.node_end, self.node_max)
-        self._events(cand, old, keep, k, self.node_dt, self.node_end, self._node_open, None)
+        keep = self.at_nodes.advance(cand, net, k)
+        head[cand[keep]] = hv[keep]
 
     def sections(
         self,
@@ -352,65 +381,15 @@ class CavityTracker:
     ) -> None:
         """Apply the DVCM at interior sections after step ``k``: head, qu, qd overwritten
         in place."""
-        if not self.n_sec and not (head < self.sec_hv_onset).any():
+        cand = self.in_pipes.candidates(head)
+        if cand is None:
             return
-        cand = np.flatnonzero((self.sec_vol > 0.0) | (head < self.sec_hv_onset))
-        hv = self.sec_hv[cand]
+        hv = self.in_pipes.hv[cand]
         invb = self.sec_invb[cand]
         q_in = (cp[cand] - hv) * invb
         q_out = (hv - cm[cand]) * invb
-        net = q_out - q_in
-        old = self.sec_vol[cand]
-        vol = old + self.sec_dt[cand] * (
-            CAVITY_WEIGHT * net + (1.0 - CAVITY_WEIGHT) * self.sec_net[cand]
-        )
-        keep = vol > 0.0
+        keep = self.in_pipes.advance(cand, q_out - q_in, k)
         kept = cand[keep]
         head[kept] = hv[keep]
         qu[kept] = q_in[keep]
         qd[kept] = q_out[keep]
-        self.sec_vol[cand] = np.where(keep, vol, 0.0)
-        self.sec_net[cand] = np.where(keep, net, 0.0)
-        self.n_sec = int(kept.size)
-        self._record(cand, vol, keep, k, self.sec_end, self.sec_max)
-        self._events(cand, old, keep, k, self.sec_dt, self.sec_end, self._sec_open, self.sec_x)
-
-    @staticmethod
-    def _record(
-        cand: np.ndarray,
-        vol: np.ndarray,
-        keep: np.ndarray,
-        k: int,
-        end: np.ndarray,
-        largest: np.ndarray,
-    ) -> None:
-        """Largest cavity volume per element, up to its last recorded step."""
-        live = keep & (end[cand] >= k)
-        if live.any():
-            j = cand[live]
-            largest[j] = np.maximum(largest[j], vol[live])
-
-    def _events(
-        self,
-        cand: np.ndarray,
-        old: np.ndarray,
-        keep: np.ndarray,
-        k: int,
-        dt: np.ndarray,
-        end: np.ndarray,
-        open_: dict[int, int],
-        sec_x: np.ndarray | None,
-    ) -> None:
-        recorded = end[cand] >= k
-        for i in cand[(old <= 0.0) & keep & recorded].tolist():
-            t = k * float(dt[i])
-            if sec_x is None:
-                open_[i] = len(self.node_events)
-                self.node_events.append([i, t, math.nan])
-            else:
-                open_[i] = len(self.sec_events)
-                self.sec_events.append([int(self.sec_pipe[i]), float(sec_x[i]), t, math.nan])
-        events = self.node_events if sec_x is None else self.sec_events
-        for i in cand[(old > 0.0) & ~keep & recorded].tolist():
-            if i in open_:
-                events[open_.pop(i)][-1] = k * float(dt[i])

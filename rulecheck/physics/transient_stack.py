@@ -172,11 +172,11 @@ class NetworkStack:
         pipe_pmax = np.maximum.reduceat(sec_pmax, grid.offset)
         pipe_pmin = np.minimum.reduceat(sec_pmin, grid.offset)
         node_events: list[list[tuple[int, float, float]]] = [[] for _ in self.networks]
-        for node, t0, t1 in cav.node_events:
+        for node, t0, t1 in cav.at_nodes.events:
             i = int(self.node_net[int(node)])
             node_events[i].append((int(node) - int(node_off[i]), float(t0), float(t1)))
         pipe_events: list[list[tuple[int, float, float, float]]] = [[] for _ in self.networks]
-        for pipe, x, t0, t1 in cav.sec_events:
+        for pipe, x, t0, t1 in cav.in_pipes.events:
             i = int(self.pipe_net[int(pipe)])
             pipe_events[i].append((int(pipe) - int(pipe_off[i]), float(x), float(t0), float(t1)))
         sec_off = np.append(grid.offset, grid.n_sections)[pipe_off]
@@ -203,8 +203,8 @@ class NetworkStack:
                 else ()
             )
             largest = max(
-                float(cav.node_max[nodes].max()),
-                float(cav.sec_max[sec_off[i] : sec_off[i + 1]].max()),
+                float(cav.at_nodes.largest[nodes].max()),
+                float(cav.in_pipes.largest[sec_off[i] : sec_off[i + 1]].max()),
             )
             results.append(
                 TransientResult(
