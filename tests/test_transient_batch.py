@@ -15,7 +15,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from test_transient_validation import RHO, single_pipe, tee
+from test_transient_validation import discontinuous, single_pipe, tee
 
 from rulecheck.physics.transient import (
     ClosingValve,
@@ -124,20 +124,9 @@ def test_stacked_run_checks_its_arguments() -> None:
     with pytest.raises(ValueError, match="duration must be > 0"):
         simulate_many([single_pipe(), single_pipe()], [0.1, 0.0])
     assert simulate_many([], []) == []
-    bad = TransientNetwork(
-        3,
-        (
-            TransientPipe(0, 1, 10.0, 0.02, 1300.0, 0.02, 1e-4),
-            TransientPipe(1, 2, 10.0, 0.02, 1300.0, 0.02, 2e-4),
-        ),
-        (0.0, 0.0, 0.0),
-        {0: 30.0},
-        ClosingValve(2, 0.0),
-        density=RHO,
-    )
     # the second network's node 1 breaks continuity: the message says which
     with pytest.raises(ValueError, match=r"continuity at nodes \[\(1, 1\)\]"):
-        simulate_many([single_pipe(), bad], [0.1, 0.1])
+        simulate_many([single_pipe(), discontinuous()], [0.1, 0.1])
 
 
 def _transient_numbers(
