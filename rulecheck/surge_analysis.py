@@ -52,7 +52,9 @@ class ValveEvent:
     column_separation: bool  # unprotected minimum reaches vapour pressure
     method: str = "screening"
     nearby_air_chambers: list[str] = field(default_factory=list)
-    cavity_at: str | None = None  # where a simulated column first separated: "at X" / "in P"
+    # where a simulated column separated away from the valve ("at X" / "in pipe P");
+    # None at the valve itself, and for the screening
+    cavity_at: str | None = None
 
 
 @dataclass

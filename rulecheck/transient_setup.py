@@ -327,15 +327,14 @@ METHOD_PATH = "transient (path model)"
 _WORK: Analysis | None = None  # the analysis a forked worker process reads
 
 
-Outcome = tuple[float, float, bool, str | None]  # peak, minimum, cavitation, first cavity
+Outcome = tuple[float, float, bool, str | None]  # peak, minimum, cavitation, cavity away
 
 
-def _first_cavity(run: EventRun) -> str | None:
-    """Where the column separated: at the valve if it did there, else the first cavity."""
-    if not run.cavities:
+def _cavity_away(run: EventRun) -> str | None:
+    """Where the column first separated, when it did not at the valve (None if it did
+    there, or nowhere)."""
+    if not run.cavities or any(c.point == run.event.point for c in run.cavities):
         return None
-    if any(c.point == run.event.point for c in run.cavities):
-        return f"at {run.event.point}"
     first = run.cavities[0]
     return f"at {first.point}" if first.point else f"in pipe {first.pipe}"
 
@@ -356,7 +355,7 @@ def _run_batch(batch: list[tuple[int, bool]]) -> list[Outcome]:
             run.peak,
             run.minimum,
             bool(run.result.cavitation),
-            _first_cavity(run),
+            _cavity_away(run),
         )
         for run in runs
     ]

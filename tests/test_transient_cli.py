@@ -155,7 +155,7 @@ def test_column_separation_away_from_the_valve_is_placed_and_measured_at_vapour(
     assert "the water in pipe P2 to vapour pressure" in found[0].message
     vapour = analysis.water_for(event.side).vapour_pressure - STANDARD_ATMOSPHERE
     assert found[0].measured == pytest.approx(vapour)
-    event.cavity_at = f"at {event.point}"  # at the valve: the valve's minimum is the number
+    event.cavity_at = None  # at the valve: the valve's minimum is the number
     found = [f for f in run_rules(analysis) if f.rule == "column-separation"]
     assert found[0].measured == pytest.approx(20 * PSI)
     assert f"drops {event.point} to" in found[0].message

@@ -110,7 +110,7 @@ def column_separation(ctx: RuleContext) -> Iterator[Finding]:
             continue
         water = ctx.analysis.water_for(e.side)
         vapour_gauge = water.vapour_pressure - STANDARD_ATMOSPHERE
-        if e.cavity_at in (None, f"at {e.point}"):
+        if e.cavity_at is None:
             where = (
                 f"the pressure wave drops {e.point} to {ctx.fmt(e.min_pressure, 'pressure')} "
                 f"(gauge, {e.method}), down to vapour pressure"
