@@ -243,7 +243,6 @@ def _run(
         arrays["f"],
         stack.elev,
         step[stack.pipe_net],
-        max_adjustment,
     )
     node_h0, sec_h0, sec_q0, q0, dh0 = stack.steady(grid)
     n_steps = np.array(

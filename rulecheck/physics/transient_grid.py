@@ -183,8 +183,7 @@ def build_grid(
     wave_speed: np.ndarray,
     friction: np.ndarray,
     elevation: np.ndarray,
-    dt: float | np.ndarray | None,
-    max_adjustment: float = DEFAULT_MAX_ADJUSTMENT,
+    dt: float | np.ndarray,
 ) -> Grid:
     """Discretise a pipe network into MOC sections on one time step (a :class:`Grid`).
 
@@ -204,11 +203,10 @@ def build_grid(
         Darcy friction factors [-].
     elevation : ndarray
         Node elevations [m].
-    dt : float, ndarray or None
-        Time step [s]: one for all pipes, one per pipe (a run of several
-        independent networks), or None to choose one with ``max_adjustment``.
-    max_adjustment : float
-        Largest allowed relative wave-speed adjustment [-].
+    dt : float or ndarray
+        Time step [s]: one for all pipes, or one per pipe (a run of several
+        independent networks); ``choose_time_step`` picks one that keeps the
+        wave-speed adjustment small.
 
     Returns
     -------
@@ -221,11 +219,7 @@ def build_grid(
        (from memory; verify against the adopted edition for the section numbers).
     """
     n_nodes = elevation.size
-    travel = length / wave_speed
-    if dt is None:
-        dt, reaches, _ = choose_time_step(travel, max_adjustment)
-    else:
-        reaches, _ = reaches_for_time_step(travel, dt)
+    reaches, _ = reaches_for_time_step(length / wave_speed, dt)
     a_adj = length / (reaches * dt)
     adjustment = a_adj / wave_speed - 1.0
     area = 0.25 * math.pi * diameter**2
@@ -259,7 +253,7 @@ def build_grid(
     end_sec = np.concatenate((first, last))
     end_node = np.concatenate((upstream, downstream)).astype(np.int64)
     end_cidx = np.concatenate((first + n, last))  # CM at upstream ends, CP at downstream ends
-    end_qidx = np.concatenate((first + n, last))  # Qd at upstream ends, Qu at downstream ends
+    end_qidx = end_cidx  # (Qu, Qd) stack like (CP, CM): Qd upstream, Qu downstream
     end_invB = 1.0 / B[end_sec]
     end_sinvB = np.concatenate((-end_invB[: reaches.size], end_invB[reaches.size :]))
     node_SB = np.bincount(end_node, weights=end_invB, minlength=n_nodes)
