@@ -271,12 +271,10 @@ def min_safe_closure_time(
     ----------
     1. Derived from Michaud's formula, engineering-basis section 7 [D].
     """
-    _, dv = _path(lengths, velocity_changes, "velocity_changes")
+    length, dv = _path(lengths, velocity_changes, "velocity_changes")
     if static_max >= limit:
         return math.inf
-    return float(
-        2.0 * density * np.sum(np.asarray(lengths, dtype=float) * dv) / (limit - static_max)
-    )
+    return float(2.0 * density * np.sum(length * dv) / (limit - static_max))
 
 
 def column_separates(
