@@ -202,6 +202,29 @@ def test_column_separation_at_valve_and_collapse_pulse():
     assert r.min_pressure == pytest.approx(P_VAP - P_ATM, rel=1e-9)
 
 
+def column_at_rest(
+    length: float, d: float, v0: float, p1: float, v1: float, n: float
+) -> tuple[float, float]:
+    """Gas volumes where a rigid water column (length, diameter d, initial velocity v0)
+    stops against a polytropic gas volume v1 at absolute pressure p1 fed from a constant
+    reservoir pressure p1: the roots of
+
+        1/2 rho L A v0^2 + p1 (V1 - V) = (p V - p1 V1) / (n - 1),  p = p1 (V1 / V)^n
+
+    (smaller: the compression, larger: the expansion) [D: energy of the water column and
+    the reservoir against the work on the gas].
+    """
+    ke = 0.5 * RHO * length * area(d) * v0**2
+
+    def balance(v: float) -> float:
+        return ke + p1 * (v1 - v) - (p1 * (v1 / v) ** n * v - p1 * v1) / (n - 1)
+
+    return (
+        brentq(balance, 1e-3 * v1, v1 * (1 - 1e-12)),
+        brentq(balance, v1 * (1 + 1e-12), 100 * v1),
+    )
+
+
 def test_gas_arrester_lowers_peak_and_follows_gas_law():
     """A sealed gas arrester at the valve lowers the peak; p_abs V^n stays constant.
 
@@ -224,12 +247,7 @@ def test_gas_arrester_lowers_peak_and_follows_gas_law():
     assert np.allclose(prot.arrester_gas_pressure[0], prot.valve_pressure + P_ATM, rtol=1e-9)
     n = arrester.polytropic_exponent
     p1, v1 = prot.node_initial_pressure[1] + P_ATM, vol[0]
-    ke = 0.5 * RHO * length * area(d) * v0**2
-
-    def balance(v2: float) -> float:
-        return ke + p1 * (v1 - v2) - (p1 * (v1 / v2) ** n * v2 - p1 * v1) / (n - 1)
-
-    v2 = brentq(balance, 1e-3 * v1, v1 * (1 - 1e-12))
+    v2, _ = column_at_rest(length, d, v0, p1, v1, n)
     assert prot.peak_pressure + P_ATM == pytest.approx(p1 * (v1 / v2) ** n, rel=0.05)
 
 
@@ -247,15 +265,8 @@ def test_arrester_without_a_stop_swings_both_ways_like_a_gas_spring():
     free = GasArrester(1, 100e-6, p_static, stop=False)
     r = simulate(single_pipe(length, a, d, v0, head, arresters=(free,)), 0.4, dt=dt)
     vol = r.arrester_gas[0]
-    n = free.polytropic_exponent
     p1, v1 = r.node_initial_pressure[1] + P_ATM, vol[0]
-    ke = 0.5 * RHO * length * area(d) * v0**2
-
-    def balance(v: float) -> float:
-        return ke + p1 * (v1 - v) - (p1 * (v1 / v) ** n * v - p1 * v1) / (n - 1)
-
-    smallest = brentq(balance, 1e-3 * v1, v1 * (1 - 1e-12))
-    largest = brentq(balance, v1 * (1 + 1e-12), 100 * v1)
+    smallest, largest = column_at_rest(length, d, v0, p1, v1, free.polytropic_exponent)
     assert vol.min() == pytest.approx(smallest, rel=0.01)
     assert vol.max() == pytest.approx(largest, rel=0.05)
     assert not r.cavitation
