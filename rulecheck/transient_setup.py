@@ -219,6 +219,14 @@ CLOSURE_STEPS = 10  # steps over the valve's closure
 ROUND_TRIP_STEPS = 20  # steps over the path's round trip 2L/a
 
 
+def resolution_step(event: ValveEvent) -> float:
+    """The largest time step [s] that resolves the event's round trip and closure."""
+    step = max(event.critical_time, 1e-4) / ROUND_TRIP_STEPS
+    if event.closure_time > 0:
+        step = min(step, event.closure_time / CLOSURE_STEPS)
+    return step
+
+
 def default_duration(event: ValveEvent) -> float:
     """Closure plus ten round trips of the path, at least 0.1 s [D]."""
     return max(0.1, event.closure_time + 10 * max(event.critical_time, 1e-3))
@@ -247,12 +255,7 @@ def prepare_event(
     """The event's network with the time step its path and closure ask for."""
     model = build_event_network(analysis, event, whole_tree)
     net = model.network
-    shortest = min(p.length / p.wave_speed for p in net.pipes)
-    wanted = min(
-        shortest,
-        max(event.critical_time, 1e-4) / ROUND_TRIP_STEPS,
-        event.closure_time / CLOSURE_STEPS if event.closure_time > 0 else shortest,
-    )
+    wanted = min(min(p.length / p.wave_speed for p in net.pipes), resolution_step(event))
     # the solver's own search, with the wanted step as one more travel time: dt stays at or
     # under it (within the search's few percent) and no pipe's wave speed moves more than that
     travel = [p.length / p.wave_speed for p in net.pipes]
@@ -378,12 +381,9 @@ def _batches(analysis: Analysis, todo: list[int]) -> list[list[tuple[int, bool]]
     results do not depend on the number of workers."""
     whole = _whole_tree(analysis, todo)
 
-    def steps(i: int) -> float:
+    def steps(i: int) -> float:  # about: the shortest pipe may ask for a finer step
         event = analysis.surge.events[i]
-        wanted = max(event.critical_time, 1e-4) / ROUND_TRIP_STEPS
-        if event.closure_time > 0:
-            wanted = min(wanted, event.closure_time / CLOSURE_STEPS)
-        return default_duration(event) / wanted
+        return default_duration(event) / resolution_step(event)
 
     ordered = [(i, whole[i]) for i in sorted(todo, key=lambda i: (-steps(i), i))]
     # longest first, so that the workers end together
