@@ -283,7 +283,7 @@ def _run(
     bare = np.ones(len(networks), dtype=bool)  # valves without an arrester at their node
     if bank is not None:
         bare[bank.valve[bank.valve >= 0]] = False
-        cav.allow_node(bank.node[~bank.on_stop], np.full(int((~bank.on_stop).sum()), -np.inf))
+        cav.allow_node(bank.node[~bank.on_stop], -np.inf)  # the gas holds those nodes up
         arr_all = np.arange(bank.node.size)
         arr_sb = grid.node_SB[bank.node]
         arr_at_valve = bank.valve >= 0

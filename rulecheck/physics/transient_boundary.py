@@ -354,7 +354,7 @@ class CavityTracker:
         self.node_sb = node_sb
         self.sec_invb = 1.0 / sec_b
 
-    def allow_node(self, node: np.ndarray, hv: np.ndarray) -> None:
+    def allow_node(self, node: np.ndarray, hv: np.ndarray | float) -> None:
         """Let cavities form at ``node`` (hv = vapour head) or forbid them (hv = -inf)."""
         self.at_nodes.hv[node] = hv
         self.at_nodes.onset[node] = hv - CAVITY_ONSET_TOLERANCE

@@ -191,17 +191,15 @@ class NetworkStack:
             valve_p = rho_g * (valve_h[: n + 1, i] - elev[v])
             times = np.arange(n + 1) * step[i]
             i_peak = int(np.argmax(valve_p))
-            mine = np.flatnonzero(arr_net == i)
-            gas = tuple(gas_rec[: n + 1, j].copy() for j in mine) if gas_rec is not None else ()
-            assert bank is not None or not mine.size
-            pressures = (
-                tuple(
+            gas: tuple[np.ndarray, ...] = ()
+            pressures: tuple[np.ndarray, ...] = ()
+            if bank is not None and gas_rec is not None:
+                mine = np.flatnonzero(arr_net == i)
+                gas = tuple(gas_rec[: n + 1, j].copy() for j in mine)
+                pressures = tuple(
                     bank.constant[j] * g ** -bank.exponent[j]
                     for j, g in zip(mine, gas, strict=True)
                 )
-                if bank is not None
-                else ()
-            )
             largest = max(
                 float(cav.at_nodes.largest[nodes].max()),
                 float(cav.in_pipes.largest[sec_off[i] : sec_off[i + 1]].max()),
