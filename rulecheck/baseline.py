@@ -18,6 +18,7 @@ from typing import Any
 
 from rulecheck.config import relative_posix
 from rulecheck.errors import NO_POSITION, InputError, Position
+from rulecheck.files import MAX_BASELINE_BYTES, atomic_output, read_text
 from rulecheck.findings import Finding
 
 BASELINE_VERSION = 1
@@ -52,7 +53,7 @@ def write_baseline(target: str | Path, results: Results, cwd: Path | None = None
     """Write the baseline of ``results`` to ``target`` (same findings → same bytes)."""
     counts = baseline_counts(results, cwd)
     text = json.dumps(baseline_document(counts), indent=2, ensure_ascii=False) + "\n"
-    with open(target, "w", encoding="utf-8", newline="\n") as handle:
+    with atomic_output(target) as handle:
         handle.write(text)
     return counts
 
@@ -60,14 +61,9 @@ def write_baseline(target: str | Path, results: Results, cwd: Path | None = None
 def read_baseline(source: str | Path) -> Counter[Key]:
     """Read a baseline file; a missing or malformed one is an :class:`InputError`."""
     name = str(source)
+    missing = ("no such baseline file", "write one first with --write-baseline")
     try:
-        data = json.loads(Path(source).read_text(encoding="utf-8-sig"))
-    except FileNotFoundError:
-        raise InputError.at(
-            name, NO_POSITION, "no such baseline file", "write one first with --write-baseline"
-        ) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError.at(name, NO_POSITION, f"cannot read the baseline: {exc}") from None
+        data = json.loads(read_text(source, MAX_BASELINE_BYTES, "baseline", missing))
     except json.JSONDecodeError as exc:
         raise InputError.at(
             name,

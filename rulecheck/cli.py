@@ -9,6 +9,7 @@ from __future__ import annotations
 import argparse
 import os
 import sys
+import traceback
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from pathlib import Path
@@ -19,8 +20,17 @@ from rich.console import Console
 from rulecheck import __version__
 from rulecheck.config import FAIL_ON, load_config
 from rulecheck.engine import Settings
-from rulecheck.errors import EXIT_FINDINGS, EXIT_INPUT, EXIT_OK, InputError
+from rulecheck.errors import (
+    EXIT_FINDINGS,
+    EXIT_INPUT,
+    EXIT_INTERNAL,
+    EXIT_INTERRUPTED,
+    EXIT_OK,
+    InputError,
+)
+from rulecheck.files import OutputError, UnreadableFile, atomic_output
 from rulecheck.findings import SEVERITY_RANK, Finding
+from rulecheck.outputs import LAYOUT_SUFFIXES, REPLACE_OPTION, OutputRefused, guard_outputs
 from rulecheck.profiles import default_profile_id, profile_ids
 from rulecheck.report import CAUTION
 from rulecheck.report.explain import explain_text, rules_table
@@ -28,7 +38,7 @@ from rulecheck.report.json_report import analysis_document, check_document, dump
 from rulecheck.report.text import render_check
 from rulecheck.rulebook import rule_specs
 
-LAYOUT_SUFFIXES = (".yaml", ".yml")
+DEBUG_OPTION = "--debug"
 
 
 class UsageError(Exception):
@@ -47,6 +57,11 @@ def build_parser() -> argparse.ArgumentParser:
         epilog=CAUTION,
     )
     parser.add_argument("--version", action="version", version=f"rulecheck {__version__}")
+    parser.add_argument(
+        DEBUG_OPTION,
+        action="store_true",
+        help="on an internal error (a bug), print the Python traceback too",
+    )
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
 
     check = sub.add_parser("check", help="check layouts against the design rules")
@@ -73,6 +88,12 @@ def build_parser() -> argparse.ArgumentParser:
         "--write-baseline",
         metavar="FILE",
         help="record the current findings as the baseline in FILE",
+    )
+    check.add_argument(
+        REPLACE_OPTION,
+        action="store_true",
+        help="let --output and --write-baseline replace an existing file that is not "
+        "a rulecheck report or baseline (inputs and the config are never replaced)",
     )
     check.add_argument("--profile", choices=profile_ids(), help="override the layout's profile")
     check.add_argument(
@@ -160,13 +181,14 @@ def cmd_check(args: argparse.Namespace, console: Console) -> int:
     paths = collect_paths(args.paths, config.excluded)
     if not paths:
         raise UsageError("rulecheck check: no layout files (*.yaml, *.yml) found")
-    for target in (args.output, args.write_baseline):
-        refuse_overwrite(target, paths)
+    refuse_overwrite(args, paths, config.path)
+    unread = 0
     for path in paths:
         try:
             result = check_file(path, settings, args.profile or config.profile_for(path))
         except InputError as exc:
             errors.append(exc)
+            unread += isinstance(exc, UnreadableFile)
             if args.format == "text":
                 print_input_error(exc)
             continue
@@ -182,35 +204,38 @@ def cmd_check(args: argparse.Namespace, console: Console) -> int:
     hidden = None
     if known is not None:
         results, hidden = baseline.apply_baseline(results, known)
-    write_report(args, console, results, errors, hidden)
+    write_report(args, console, results, errors, hidden, unread)
     if errors:
         return EXIT_INPUT
     failing = any(reaches(f, fail_on) for _, _, fs in results for f in fs)
     return EXIT_FINDINGS if failing else EXIT_OK
 
 
-def refuse_overwrite(target: str | None, inputs: list[Path]) -> None:
-    """Refuse an output path that is one of the inputs or an existing YAML file."""
-    if target is None:
-        return
-    out = Path(target)
-    if (out.suffix in LAYOUT_SUFFIXES and out.exists()) or any(
-        out.resolve() == p.resolve() for p in inputs
-    ):
-        raise UsageError(f"rulecheck check: refusing to write over the layout {target}")
+def refuse_overwrite(args: argparse.Namespace, inputs: list[Path], config: Path | None) -> None:
+    """Refuse outputs that would replace an input, the config, the baseline or each other."""
+    outputs = [
+        (option, target)
+        for option, target in (("--output", args.output), ("--write-baseline", args.write_baseline))
+        if target is not None
+    ]
+    protected: list[tuple[str, str | Path]] = [("layout", p) for p in inputs]
+    if config is not None:
+        protected.append(("configuration", config))
+    if args.baseline is not None:
+        protected.append(("baseline", args.baseline))
+    try:
+        guard_outputs(outputs, protected, replace_any=args.replace_any)
+    except OutputRefused as exc:
+        raise UsageError(f"rulecheck check: {exc}") from None
 
 
 @contextmanager
 def open_output(target: str | None) -> Iterator[TextIO]:
-    """Standard output, or ``target`` opened for UTF-8 text with ``\\n`` line ends."""
+    """Standard output, or ``target`` replaced atomically (UTF-8, ``\\n`` line ends)."""
     if target is None:
         yield sys.stdout
         return
-    try:
-        handle = open(target, "w", encoding="utf-8", newline="\n")
-    except OSError as exc:
-        raise UsageError(f"rulecheck check: cannot write {target}: {exc.strerror}") from None
-    with handle:
+    with atomic_output(target) as handle:
         yield handle
 
 
@@ -220,6 +245,7 @@ def write_report(
     results: list[tuple[str, str, list[Finding]]],
     errors: list[InputError],
     hidden: int | None,
+    unread: int = 0,
 ) -> None:
     with open_output(args.output) as handle:
         if args.format == "text":
@@ -233,6 +259,7 @@ def write_report(
                 [(p, f) for p, _, f in results],
                 [e.problems[0].path for e in errors],
                 hidden or 0,
+                unread,
             )
         elif args.format == "sarif":
             from rulecheck.report.sarif import sarif_document
@@ -269,7 +296,35 @@ def cmd_explain(args: argparse.Namespace) -> int:
 
 
 def main(argv: list[str] | None = None) -> int:
-    """Run the command line; return the exit status."""
+    """Run the command line; return the exit status (see :mod:`rulecheck.errors`)."""
+    argv = sys.argv[1:] if argv is None else list(argv)
+    try:
+        return _run(argv)
+    except KeyboardInterrupt:
+        print("rulecheck: interrupted", file=sys.stderr)
+        return EXIT_INTERRUPTED
+    except Exception as exc:  # a bug: say so plainly, never as a finding or an input error
+        print(internal_error_message(exc, argv), file=sys.stderr)
+        if DEBUG_OPTION in argv:
+            traceback.print_exception(exc, file=sys.stderr)
+        return EXIT_INTERNAL
+
+
+def internal_error_message(exc: BaseException, argv: list[str]) -> str:
+    """One paragraph: what failed, that it is a bug, how to report it."""
+    command = next((a for a in argv if not a.startswith("-")), "rulecheck")
+    what = "".join(c if c.isprintable() else repr(c)[1:-1] for c in str(exc))[:300]
+    return (
+        f"rulecheck: internal error in '{command}': {type(exc).__name__}"
+        f"{': ' + what if what else ''}. This is a bug in rulecheck {__version__}, not a "
+        "problem with your files, and the run was not completed (exit status "
+        f"{EXIT_INTERNAL}). Please report it to the rulecheck maintainers with the command "
+        f"you ran, the input files if you can share them, and the output of the same "
+        f"command with '{DEBUG_OPTION}' before the command name, which adds the traceback."
+    )
+
+
+def _run(argv: list[str]) -> int:
     # NO_COLOR (https://no-color.org): no escape codes at all, bold included
     console = Console(highlight=False, color_system=None if os.environ.get("NO_COLOR") else "auto")
     try:
@@ -303,9 +358,9 @@ def main(argv: list[str] | None = None) -> int:
     except InputError as exc:
         print_input_error(exc)
         return EXIT_INPUT
-    except KeyboardInterrupt:
-        print("interrupted", file=sys.stderr)
-        return 130
+    except OutputError as exc:
+        print(f"rulecheck: {exc}", file=sys.stderr)
+        return EXIT_INPUT
     return EXIT_INPUT
 
 

@@ -33,6 +33,7 @@ import yaml
 
 from rulecheck.engine import Settings
 from rulecheck.errors import NO_POSITION, InputError, Position, ProblemCollector
+from rulecheck.files import MAX_CONFIG_BYTES, is_regular_file, read_text
 from rulecheck.findings import SEVERITIES
 from rulecheck.profiles import profile_ids
 from rulecheck.rulebook import RuleSpec, rule_specs
@@ -126,24 +127,13 @@ def load_config(explicit: str | Path | None = None, start: Path | None = None) -
     """Read ``explicit`` (which must exist) or the nearest ``rulecheck.toml``; raise InputError."""
     if explicit is not None:
         path = Path(explicit)
-        if not path.is_file():
-            raise InputError.at(
-                str(path),
-                NO_POSITION,
-                "no such configuration file",
-                "check the path given to --config",
-            )
     else:
         found = find_config(start)
         if found is None:
             return Config()
         path = found
-    try:
-        text = path.read_text(encoding="utf-8-sig")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError.at(
-            str(path), NO_POSITION, f"cannot read the configuration: {exc}"
-        ) from None
+    missing = ("no such configuration file", "check the path given to --config")
+    text = read_text(path, MAX_CONFIG_BYTES, "configuration", missing)
     return parse_config(text, path, str(path) if explicit is not None else relative_posix(path))
 
 
@@ -335,6 +325,8 @@ def declares_profile(path: Path) -> bool:
     Any problem reading the file answers False; the full load reports it properly.
     """
     stack: list[list[Any]] = []  # per open collection: [is mapping, key expected, last key]
+    if not is_regular_file(path):
+        return False
     try:
         with open(path, encoding="utf-8-sig") as handle:
             for event in yaml.parse(handle, Loader=getattr(yaml, "CSafeLoader", yaml.SafeLoader)):

@@ -25,6 +25,7 @@ from typing import Any
 import yaml
 
 from rulecheck.errors import InputError, Position, ProblemCollector
+from rulecheck.files import MAX_LAYOUT_BYTES, read_text
 
 try:  # the C parser is several times faster; fall back quietly without libyaml
     _Loader: type = yaml.CSafeLoader
@@ -394,20 +395,5 @@ def _parse_composed(text: str, path: str) -> Document:
 def load_file(path: str | Path) -> Document:
     """Read and parse one layout file; unreadable files become input errors."""
     name = str(path)
-    try:
-        raw = Path(path).read_bytes()
-    except FileNotFoundError:
-        raise InputError.at(name, Position(1, 1), "no such file", "check the path") from None
-    except IsADirectoryError:
-        raise InputError.at(name, Position(1, 1), "this is a folder, not a file") from None
-    except OSError as exc:
-        raise InputError.at(name, Position(1, 1), f"cannot read the file: {exc.strerror}") from None
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        line = raw[: exc.start].count(b"\n") + 1
-        column = exc.start - (raw.rfind(b"\n", 0, exc.start) + 1) + 1
-        raise InputError.at(
-            name, Position(line, column), "the file is not UTF-8 text", "save it as UTF-8"
-        ) from None
+    text = read_text(path, MAX_LAYOUT_BYTES, "layout")
     return parse_text(text, name)

@@ -1,19 +1,29 @@
 """The built wheel carries ``rules/`` and ``schemas/`` and works outside the repository.
 
 Builds a wheel (``python -m build --wheel --no-isolation``, offline), installs
-it with ``pip --no-deps --no-index`` into a fresh virtual environment that sees
-the system's site-packages (for pyyaml, numpy, ...), and runs the installed
-``rulecheck`` from a scratch folder on a copy of a sample. The source checkout
-is kept off the path, so the data can only come from inside the wheel
-(``rulecheck/_data/``, see ``[tool.hatch.build.targets.wheel.force-include]``).
+it with ``pip --no-deps --no-index`` into a fresh virtual environment, and runs
+the installed ``rulecheck`` from a scratch folder on a copy of a sample. The
+source checkout is kept off the path, so the data can only come from inside the
+wheel (``rulecheck/_data/``, see ``[tool.hatch.build.targets.wheel.force-include]``).
+
+The fresh environment does not lean on the base interpreter's site-packages
+(which on a clean machine lack pyyaml, pint, rich, ...): it is made without
+``--system-site-packages`` and finds its dependencies in the environment running
+the tests, through one ``.pth`` file listing that environment's site-packages
+folders. Entries in a ``.pth`` file are only appended to ``sys.path`` (the
+``.pth`` files inside those folders, such as an editable install's, are not run),
+and they come after the fresh environment's own site-packages, so ``rulecheck``
+itself is the wheel's.
 """
 
 from __future__ import annotations
 
 import os
 import shutil
+import site
 import subprocess
 import sys
+import sysconfig
 import zipfile
 from pathlib import Path
 
@@ -42,6 +52,16 @@ def _run(args: list[str | Path], cwd: Path, timeout: int = 300) -> subprocess.Co
         timeout=timeout,
         check=False,
     )
+
+
+def _outer_site_folders() -> list[str]:
+    """The site-packages folders of the environment running the tests (not the checkout)."""
+    paths = sysconfig.get_paths()
+    folders = [paths["purelib"], paths["platlib"]]
+    if site.ENABLE_USER_SITE and Path(site.getusersitepackages()).is_dir():
+        folders.append(site.getusersitepackages())
+    unique = dict.fromkeys(str(Path(f).resolve()) for f in folders if Path(f).is_dir())
+    return [f for f in unique if Path(f) != REPO.resolve()]
 
 
 @pytest.fixture(scope="module")
@@ -73,13 +93,30 @@ def installed(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, Path]:
     (wheel,) = dist.glob("rulecheck-*.whl")
 
     venv = root / "venv"
-    made = _run([sys.executable, "-m", "venv", "--system-site-packages", venv], cwd=root)
+    made = _run([sys.executable, "-m", "venv", "--without-pip", venv], cwd=root)
     assert made.returncode == 0, made.stderr
     bin_dir = venv / ("Scripts" if os.name == "nt" else "bin")
     python = bin_dir / "python"
-    # --ignore-installed: the development checkout may be installed (editable) system-wide.
+    site = _run([python, "-c", "import sysconfig; print(sysconfig.get_paths()['purelib'])"], root)
+    assert site.returncode == 0, site.stderr
+    (Path(site.stdout.strip()) / "_outer_environment.pth").write_text(
+        "".join(f"{folder}\n" for folder in _outer_site_folders()), encoding="utf-8"
+    )
+    # pip of the outer environment installs into the fresh one (--python, pip >= 22.3);
+    # --ignore-installed: the outer environment may hold rulecheck (editable or not).
     pip = _run(
-        [python, "-m", "pip", "install", "--no-deps", "--no-index", "--ignore-installed", wheel],
+        [
+            sys.executable,
+            "-m",
+            "pip",
+            "--python",
+            python,
+            "install",
+            "--no-deps",
+            "--no-index",
+            "--ignore-installed",
+            wheel,
+        ],
         cwd=root,
     )
     assert pip.returncode == 0, pip.stdout + pip.stderr
@@ -94,6 +131,30 @@ def test_wheel_contains_the_data(installed: tuple[Path, Path]) -> None:
     assert "rulecheck/_data/schemas/layout.schema.json" in names
     for rule_file in ("hydraulic-rules.yaml", "housekeeping-rules.yaml"):
         assert f"rulecheck/_data/rules/{rule_file}" in names
+
+
+def test_fresh_environment_ignores_the_base_site_packages(
+    installed: tuple[Path, Path], tmp_path: Path
+) -> None:
+    """No --system-site-packages: the base interpreter's own packages are not on the path."""
+    _, bin_dir = installed
+    done = _run(
+        [
+            bin_dir / "python",
+            "-c",
+            "import sys, sysconfig; base = sysconfig.get_paths("
+            "vars={'base': sys.base_prefix, 'platbase': sys.base_prefix})['purelib']; "
+            "print(sys.prefix != sys.base_prefix, base in sys.path)",
+        ],
+        cwd=tmp_path,
+    )
+    assert done.returncode == 0, done.stderr
+    assert done.stdout.split() == ["True", str(base_is_outer())], done.stdout
+
+
+def base_is_outer() -> bool:
+    """True only when the tests themselves run on the base interpreter (no venv)."""
+    return sys.prefix == sys.base_prefix
 
 
 def test_installed_package_is_the_wheel(installed: tuple[Path, Path], tmp_path: Path) -> None:

@@ -33,8 +33,13 @@ def summary_counts(findings: list[Finding]) -> Counter[str]:
 
 
 def render_check(
-    console: Console, results: list[tuple[str, list[Finding]]], failed: list[str], hidden: int = 0
+    console: Console,
+    results: list[tuple[str, list[Finding]]],
+    failed: list[str],
+    hidden: int = 0,
+    unread: int = 0,
 ) -> None:
+    """Finding lines, then the summary; ``unread`` of the ``failed`` files could not be read."""
     every: list[Finding] = []
     for _path, findings in results:
         for f in findings:
@@ -43,14 +48,16 @@ def render_check(
     counts = summary_counts(every)
     waived = sum(1 for f in every if f.waived is not None)
     parts = [f"{_plural(counts.get(s, 0), s)}" for s in SEVERITIES]
-    files = len(results) + len(failed)
+    files = len(results) + len(failed) - unread
     line = f"{files} file{'s' if files != 1 else ''} checked: " + ", ".join(parts)
     if waived:
         line += f"; {waived} waived"
     if hidden:
         line += f"; {hidden} hidden by the baseline"
-    if failed:
-        line += f"; {len(failed)} with input errors"
+    if len(failed) > unread:
+        line += f"; {len(failed) - unread} with input errors"
+    if unread:
+        line += f"; {unread} could not be read"
     console.print()
     console.print(line, soft_wrap=True, highlight=False)
     console.print(f"[dim]Caution: {CAUTION}[/dim]", soft_wrap=True, highlight=False)
