@@ -118,8 +118,7 @@ def test_clinic_static_findings_are_downstream_of_its_prv(
         if service == "hot":  # through the heater to its cold inlet
             heater = analysis.layout.heaters[0]
             route += [
-                analysis.layout.pipes[i].id
-                for i in analysis.network.path_up(heater.inlet, "cold")
+                analysis.layout.pipes[i].id for i in analysis.network.path_up(heater.inlet, "cold")
             ]
         assert m1.id in route, f"{node} is not downstream of PRV1"
         assert node != "MAIN"

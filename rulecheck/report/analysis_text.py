@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from rulecheck.analysis import Analysis
+from rulecheck.physics.demand import hunter_table
 from rulecheck.units import from_si, unit_label
 
 
@@ -24,10 +25,40 @@ def _num(value: float, kind: str, units: str, decimals: int = 2) -> str:
     return f"{from_si(value, kind, units):.{decimals}f}"
 
 
+def demand_curve_line(analysis: Analysis) -> str:
+    """How fixture units became flow: the project's choice and, under auto, the rule."""
+    if analysis.demand_curve != "auto":
+        return (
+            f"Demand curve: the {analysis.demand_curve} column of IPC Table E103.3(3) for every "
+            "pipe (project.demand_curve); the flush-tank column below 5 WSFU"
+        )
+    table = hunter_table()
+    return (
+        "Demand curve: auto, per pipe: the flushometer column of IPC Table E103.3(3) where "
+        f"flushometer valves carry over {table.flushometer_share * 100:g} % of the fixture "
+        'units the pipe serves ("predominantly"; the threshold is common practice [CP]), '
+        "else the flush-tank column; the flush-tank column below 5 WSFU"
+    )
+
+
+def pipe_curve(analysis: Analysis, index: int) -> str:
+    """The column a pipe's demand flow was read from, or why none was."""
+    pipe = analysis.layout.pipes[index]
+    if pipe.demand is not None:
+        return "override"
+    if pipe.service == "hot-return" or analysis.fixtures_served[index] == 0:
+        return "-"
+    if analysis.fixtures_served[index] == 1:
+        return "one fixture"
+    return "flushometer" if analysis.flushometer_column[index] else "flush-tank"
+
+
 def render_analysis(analysis: Analysis) -> str:
     layout, units = analysis.layout, analysis.layout.units
     lab = {k: unit_label(k, units) for k in ("flow", "velocity", "pressure", "length")}
     out = [f"{layout.name}  ({layout.path}, profile {layout.profile}, units {units})", ""]
+    out += [demand_curve_line(analysis), ""]
+    auto = analysis.demand_curve == "auto"
     rows = []
     speeds = analysis.surge.wave_speed if analysis.surge is not None else None
     for i, p in enumerate(layout.pipes):
@@ -41,6 +72,8 @@ def render_analysis(analysis: Analysis) -> str:
                 _num(analysis.velocity[i], "velocity", units),
                 _num(analysis.friction_drop[i], "pressure", units),
                 _num(float(speeds[i]), "velocity", units, 0) if speeds is not None else "-",
+                pipe_curve(analysis, i),
+                *([f"{analysis.flushometer_share[i] * 100:.0f}"] if auto else []),
             ]
         )
     out += _table(
@@ -53,6 +86,8 @@ def render_analysis(analysis: Analysis) -> str:
             f"velocity [{lab['velocity']}]",
             f"friction [{lab['pressure']}]",
             f"wave speed [{lab['velocity']}]",
+            "curve",
+            *(["flushometer WSFU [%]"] if auto else []),
         ],
         rows,
     )

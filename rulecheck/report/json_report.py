@@ -8,6 +8,8 @@ from typing import Any
 from rulecheck.analysis import Analysis
 from rulecheck.errors import InputError
 from rulecheck.findings import SEVERITIES, Finding, _clean
+from rulecheck.physics.demand import hunter_table
+from rulecheck.report.analysis_text import demand_curve_line, pipe_curve
 from rulecheck.report.text import summary_counts
 
 
@@ -76,6 +78,8 @@ def analysis_document(analysis: Analysis) -> dict[str, Any]:
             "velocity": _clean(float(analysis.velocity[i])),
             "head_loss": _clean(float(analysis.friction_drop[i])),
             "wsfu": _clean(float(analysis.wsfu[i])),
+            "demand_curve": pipe_curve(analysis, i),
+            "flushometer_share": _clean(float(analysis.flushometer_share[i])),
         }
         if wave_speed is not None:
             entry["wave_speed"] = _clean(float(wave_speed[i]))
@@ -88,7 +92,24 @@ def analysis_document(analysis: Analysis) -> dict[str, Any]:
         }
         for node in sorted(analysis.static_max)
     }
-    document: dict[str, Any] = {"version": 1, "path": layout.path, "pipes": pipes, "points": points}
+    document: dict[str, Any] = {
+        "version": 1,
+        "path": layout.path,
+        "demand_curve": {
+            "setting": analysis.demand_curve,
+            "rule": demand_curve_line(analysis).removeprefix("Demand curve: "),
+            **(
+                {
+                    "flushometer_share_over": hunter_table().flushometer_share,
+                    "basis": hunter_table().share_basis,
+                }
+                if analysis.demand_curve == "auto"
+                else {}
+            ),
+        },
+        "pipes": pipes,
+        "points": points,
+    }
     document["valves"] = valve_records(analysis)
     return document
 
