@@ -18,6 +18,7 @@ from rulecheck.model import Fixture, Layout
 from rulecheck.network import Network, Tree
 from rulecheck.physics.demand import demand_flow, flushometer_column, hunter_table
 from rulecheck.physics.friction import darcy_pressure_drop
+from rulecheck.physics.surge import STANDARD_ATMOSPHERE
 from rulecheck.physics.water import WaterProperties, water_properties
 from rulecheck.profiles import Profile, get_profile
 
@@ -43,8 +44,13 @@ class Analysis:
     flushometer_share: np.ndarray = field(default_factory=lambda: np.zeros(0))
     flushometer_column: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=bool))
     static_max: dict[str, float] = field(default_factory=dict)  # per node, gauge [Pa]
-    static_min: dict[str, float] = field(default_factory=dict)
-    residual: dict[str, float] = field(default_factory=dict)  # flowing pressure [Pa]
+    static_min: dict[str, float] = field(default_factory=dict)  # both floored at p_v − p_atm
+    # points where the static column cannot stand (static min at the vapour pressure: the
+    # supply cannot lift water there at rest, the column separates)
+    static_separated: set[str] = field(default_factory=set)
+    # pressure left at design flow [Pa]: static min less lift, friction and device losses.
+    # Below zero it is not a pressure but a shortfall: the design flow cannot be delivered.
+    residual: dict[str, float] = field(default_factory=dict)
     surge: Any = None  # rulecheck.surge_analysis.SurgeAnalysis, filled in by the pipeline
 
     def water_for(self, service: str) -> WaterProperties:
@@ -187,12 +193,18 @@ def _meeting_point(tree: Tree, network: Network, a: str, b: str) -> str:
 
 
 def _pressures(result: Analysis) -> None:
-    """Static max/min and residual pressure at every node, root outward (§4)."""
+    """Static max/min and residual pressure at every node, root outward (§4).
+
+    The static pressures are carried as head balances and then floored at the vapour
+    pressure of that service (gauge p_v − p_atm): below it the water column separates.
+    """
     layout, network = result.layout, result.network
     devices: dict[str, list] = {}
     for device in layout.devices:
         devices.setdefault(device.on, []).append(device)
-    smax, smin, res = result.static_max, result.static_min, result.residual
+    smax: dict[str, float] = {}
+    smin: dict[str, float] = {}
+    res = result.residual
     z = network.elevation
     for supply in layout.supplies:
         smax[supply.id], smin[supply.id] = supply.pressure_max, supply.pressure_min
@@ -221,3 +233,16 @@ def _pressures(result: Analysis) -> None:
                     hi, lo = min(hi, device.set_pressure), min(lo, device.set_pressure)
                     flowing = min(flowing, device.set_pressure)
             smax[node], smin[node], res[node] = hi, lo, flowing
+    _floor_static(result, smax, smin)
+
+
+def _floor_static(result: Analysis, smax: dict[str, float], smin: dict[str, float]) -> None:
+    """Static pressures as water can hold them: never below p_v − p_atm (gauge)."""
+    service_of = result.network.service_of
+    for node in smax:
+        service = "hot" if service_of(node) == "hot" else "cold"
+        floor = result.water[service].vapour_pressure - STANDARD_ATMOSPHERE
+        result.static_max[node] = max(smax[node], floor)
+        result.static_min[node] = max(smin[node], floor)
+        if smin[node] < floor:
+            result.static_separated.add(node)

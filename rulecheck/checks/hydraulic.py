@@ -167,6 +167,9 @@ def _static_fix(
 
 
 def residual_pressure(ctx: RuleContext) -> Iterator[Finding]:
+    """A fixture under its minimum flow pressure at design flow. A residual below zero is
+    not a pressure: the design flow cannot reach the fixture, and the message gives the
+    shortfall instead (engineering-basis §7)."""
     analysis = ctx.analysis
     for fixture in analysis.layout.fixtures:
         pressure, side = analysis.fixture_residual(fixture)
@@ -174,11 +177,19 @@ def residual_pressure(ctx: RuleContext) -> Iterator[Finding]:
         if pressure >= need:
             continue
         short = need - pressure
+        if pressure >= 0.0:
+            gets = f"gets {ctx.fmt(pressure, 'pressure')} on its {side} side at design flow"
+        else:
+            gets = (
+                f"is short by {ctx.fmt(-pressure, 'pressure')} at design flow on its {side} "
+                "side (lift and losses on the path exceed the supply; nothing is left for "
+                "the fixture)"
+            )
         yield ctx.finding(
             fixture.id,
-            f"fixture {fixture.id} ({fixture.type.id}) gets {ctx.fmt(pressure, 'pressure')} on "
-            f"its {side} side at design flow; it needs {ctx.fmt(need, 'pressure')}",
-            measured=pressure,
+            f"fixture {fixture.id} ({fixture.type.id}) {gets}; it needs "
+            f"{ctx.fmt(need, 'pressure')}",
+            measured=pressure if pressure >= 0.0 else None,
             limit=need,
             kind="pressure",
             fix=f"find {ctx.fmt(short, 'pressure')} more: larger pipes on the path, a lower "

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from rulecheck.analysis import Analysis
 from rulecheck.physics.demand import hunter_table
+from rulecheck.physics.surge import STANDARD_ATMOSPHERE
+from rulecheck.surge_analysis import ValveEvent
 from rulecheck.units import from_si, unit_label
 
 
@@ -23,6 +25,21 @@ def _table(headers: list[str], rows: list[list[str]]) -> list[str]:
 
 def _num(value: float, kind: str, units: str, decimals: int = 2) -> str:
     return f"{from_si(value, kind, units):.{decimals}f}"
+
+
+def _at_vapour(analysis: Analysis, event: ValveEvent) -> bool:
+    """Whether a valve's minimum sits at the vapour pressure floor (within 1 Pa)."""
+    water = analysis.water_for(event.side)
+    return event.min_pressure <= water.vapour_pressure - STANDARD_ATMOSPHERE + 1.0
+
+
+def _residual(value: float, units: str) -> str:
+    """A residual pressure, or below zero the shortfall at design flow (not a pressure)."""
+    return (
+        _num(value, "pressure", units, 1)
+        if value >= 0.0
+        else "short " + _num(-value, "pressure", units, 1)
+    )
 
 
 def demand_curve_line(analysis: Analysis) -> str:
@@ -92,12 +109,13 @@ def render_analysis(analysis: Analysis) -> str:
         rows,
     )
     out.append("")
+    separated = analysis.static_separated
     rows = [
         [
             n,
             _num(analysis.static_max[n], "pressure", units, 1),
-            _num(analysis.static_min[n], "pressure", units, 1),
-            _num(analysis.residual[n], "pressure", units, 1),
+            _num(analysis.static_min[n], "pressure", units, 1) + ("*" if n in separated else ""),
+            _residual(analysis.residual[n], units),
         ]
         for n in sorted(analysis.static_max)
     ]
@@ -110,6 +128,15 @@ def render_analysis(analysis: Analysis) -> str:
         ],
         rows,
     )
+    if separated:
+        out.append(
+            "* vapour pressure: the supply cannot hold the water column up at rest here; "
+            "it separates"
+        )
+    if any(v < 0.0 for v in analysis.residual.values()):
+        out.append(
+            "short: no pressure is left at design flow; the figure is the shortfall, not a pressure"
+        )
     if analysis.surge is not None and analysis.surge.events:
         out.append("")
         rows = [
@@ -120,7 +147,8 @@ def render_analysis(analysis: Analysis) -> str:
                 f"{e.critical_time * 1000:.1f}",
                 _num(e.surge, "pressure", units, 1),
                 _num(e.peak, "pressure", units, 1),
-                _num(e.min_pressure, "pressure", units, 1),
+                _num(e.min_pressure, "pressure", units, 1)
+                + ("*" if _at_vapour(analysis, e) else ""),
                 e.protected_by or "-",
             ]
             for e in analysis.surge.events
@@ -138,4 +166,9 @@ def render_analysis(analysis: Analysis) -> str:
             ],
             rows,
         )
+        if any(_at_vapour(analysis, e) for e in analysis.surge.events):
+            out.append(
+                "* vapour pressure, the lowest water can reach: the column separates unless "
+                "an arrester protects the valve"
+            )
     return "\n".join(out)
