@@ -1,8 +1,9 @@
 """Baselines: ``--write-baseline`` records today's findings, ``--baseline`` reports only new ones.
 
 The layout is ``conftest.MINIMAL`` with a 95 psi supply, over the 80 psi static
-limit [S: UPC 608.2] (a violation at J1, the first point after the service), and a 14 gpm demand in 3/4 in type L
-copper, 9.28 ft/s against 8 ft/s [S: NSPC 10.14.1; bore 0.785 in per ASTM B88]
+limit [S: UPC 608.2] (a violation at J1, the first point after the service), and a
+14 gpm demand in 3/4 in type L copper, 9.28 ft/s against 8 ft/s
+[S: NSPC 10.14.1; bore 0.785 in per ASTM B88]
 (a caution on P1). The key of a baseline entry is (path relative to the
 working folder, rule, element): the tests shift lines and change values to show
 that an accepted finding stays accepted, and add elements to show that new
