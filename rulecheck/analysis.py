@@ -16,8 +16,9 @@ import numpy as np
 
 from rulecheck.model import Fixture, Layout
 from rulecheck.network import Network, Tree
-from rulecheck.physics.demand import demand_flow
+from rulecheck.physics.demand import demand_flow, flushometer_column, hunter_table
 from rulecheck.physics.friction import darcy_pressure_drop
+from rulecheck.physics.surge import STANDARD_ATMOSPHERE
 from rulecheck.physics.water import WaterProperties, water_properties
 from rulecheck.profiles import Profile, get_profile
 
@@ -37,9 +38,19 @@ class Analysis:
     flow: np.ndarray  # design flow [m³/s]
     velocity: np.ndarray  # [m/s]
     friction_drop: np.ndarray  # friction pressure drop incl. fittings allowance [Pa]
+    # demand curve (engineering-basis §3.2): the project's setting, each pipe's share of
+    # fixture units on flushometer valves [-] and whether it reads the flushometer column
+    demand_curve: str = "auto"
+    flushometer_share: np.ndarray = field(default_factory=lambda: np.zeros(0))
+    flushometer_column: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=bool))
     static_max: dict[str, float] = field(default_factory=dict)  # per node, gauge [Pa]
-    static_min: dict[str, float] = field(default_factory=dict)
-    residual: dict[str, float] = field(default_factory=dict)  # flowing pressure [Pa]
+    static_min: dict[str, float] = field(default_factory=dict)  # both floored at p_v − p_atm
+    # points where the static column cannot stand (static min at the vapour pressure: the
+    # supply cannot lift water there at rest, the column separates)
+    static_separated: set[str] = field(default_factory=set)
+    # pressure left at design flow [Pa]: static min less lift, friction and device losses.
+    # Below zero it is not a pressure but a shortfall: the design flow cannot be delivered.
+    residual: dict[str, float] = field(default_factory=dict)
     surge: Any = None  # rulecheck.surge_analysis.SurgeAnalysis, filled in by the pipeline
 
     def water_for(self, service: str) -> WaterProperties:
@@ -63,7 +74,10 @@ def analyse(layout: Layout, network: Network) -> Analysis:
         "hot": water_properties(layout.hot_temperature),
     }
     n = len(layout.pipes)
-    wsfu, served, largest, flush, continuous = _accumulate(layout, network)
+    wsfu, served, largest, flush_units, continuous = _accumulate(layout, network)
+    flush = flushometer_column(flush_units, wsfu, layout.demand_curve)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        share = np.where(wsfu > 0, flush_units / np.where(wsfu > 0, wsfu, 1.0), 0.0)
     flow = np.asarray(demand_flow(wsfu, flush), dtype=float)
     flow = np.where(served == 1, largest, np.maximum(flow, largest))
     flow = np.where(served == 0, 0.0, flow) + continuous
@@ -91,18 +105,30 @@ def analyse(layout: Layout, network: Network) -> Analysis:
         else np.zeros(0)
     )
     result = Analysis(
-        layout, network, profile, water, wsfu, served, flow, flow / area if n else np.zeros(0), drop
+        layout,
+        network,
+        profile,
+        water,
+        wsfu,
+        served,
+        flow,
+        flow / area if n else np.zeros(0),
+        drop,
+        demand_curve=layout.demand_curve,
+        flushometer_share=np.clip(share, 0.0, 1.0),
+        flushometer_column=flush & (wsfu >= _first_flushometer_row()),
     )
     _pressures(result)
     return result
 
 
 def _accumulate(layout: Layout, network: Network) -> tuple[np.ndarray, ...]:
-    """Fixture units, fixture count, largest fixture flow, flushometer flag and continuous
-    flow carried by each pipe, by deposits at nodes summed over subtrees."""
+    """Fixture units, fixture count, largest fixture flow, fixture units on flushometer
+    valves and continuous flow carried by each pipe, by deposits at nodes summed over
+    subtrees."""
     n = len(layout.pipes)
     wsfu, served = np.zeros(n), np.zeros(n, dtype=int)
-    largest, flush, continuous = np.zeros(n), np.zeros(n, dtype=bool), np.zeros(n)
+    largest, flush, continuous = np.zeros(n), np.zeros(n), np.zeros(n)
     cold, hot = network.trees["cold"], network.trees["hot"]
     inlet_of = {h.outlet: h.inlet for h in layout.heaters}
     deposits: dict[str, dict[str, list[float]]] = {"cold": {}, "hot": {}}
@@ -115,7 +141,8 @@ def _accumulate(layout: Layout, network: Network) -> tuple[np.ndarray, ...]:
         slot[0] += units
         slot[1] += count
         slot[2] = max(slot[2], fx.flow)
-        slot[3] = max(slot[3], float(fx.type.flushometer))
+        if fx.type.flushometer:
+            slot[3] += units
 
     for fx in layout.fixtures:
         inlet = inlet_of.get(hot.root_of.get(fx.hot, "")) if fx.hot else None
@@ -137,14 +164,20 @@ def _accumulate(layout: Layout, network: Network) -> tuple[np.ndarray, ...]:
                 continue
             slot = totals.get(node, [0.0, 0, 0.0, 0.0, 0.0])
             wsfu[index], served[index], largest[index] = slot[0], slot[1], slot[2]
-            flush[index], continuous[index] = bool(slot[3]), slot[4]
+            flush[index], continuous[index] = slot[3], slot[4]
             up = totals.setdefault(layout.pipes[index].start, [0.0, 0, 0.0, 0.0, 0.0])
             up[0] += slot[0]
             up[1] += slot[1]
             up[2] = max(up[2], slot[2])
-            up[3] = max(up[3], slot[3])
+            up[3] += slot[3]
             up[4] += slot[4]
-    return np.maximum(wsfu, 0.0), served, largest, flush, continuous
+    return np.maximum(wsfu, 0.0), served, largest, np.maximum(flush, 0.0), continuous
+
+
+def _first_flushometer_row() -> float:
+    """WSFU of the flushometer column's first row (5): below it the tank column is read."""
+    table = hunter_table()
+    return float(table.wsfu[~np.isnan(table.flushometer)][0])
 
 
 def _meeting_point(tree: Tree, network: Network, a: str, b: str) -> str:
@@ -160,12 +193,18 @@ def _meeting_point(tree: Tree, network: Network, a: str, b: str) -> str:
 
 
 def _pressures(result: Analysis) -> None:
-    """Static max/min and residual pressure at every node, root outward (§4)."""
+    """Static max/min and residual pressure at every node, root outward (§4).
+
+    The static pressures are carried as head balances and then floored at the vapour
+    pressure of that service (gauge p_v − p_atm): below it the water column separates.
+    """
     layout, network = result.layout, result.network
     devices: dict[str, list] = {}
     for device in layout.devices:
         devices.setdefault(device.on, []).append(device)
-    smax, smin, res = result.static_max, result.static_min, result.residual
+    smax: dict[str, float] = {}
+    smin: dict[str, float] = {}
+    res = result.residual
     z = network.elevation
     for supply in layout.supplies:
         smax[supply.id], smin[supply.id] = supply.pressure_max, supply.pressure_min
@@ -194,3 +233,16 @@ def _pressures(result: Analysis) -> None:
                     hi, lo = min(hi, device.set_pressure), min(lo, device.set_pressure)
                     flowing = min(flowing, device.set_pressure)
             smax[node], smin[node], res[node] = hi, lo, flowing
+    _floor_static(result, smax, smin)
+
+
+def _floor_static(result: Analysis, smax: dict[str, float], smin: dict[str, float]) -> None:
+    """Static pressures as water can hold them: never below p_v − p_atm (gauge)."""
+    service_of = result.network.service_of
+    for node in smax:
+        service = "hot" if service_of(node) == "hot" else "cold"
+        floor = result.water[service].vapour_pressure - STANDARD_ATMOSPHERE
+        result.static_max[node] = max(smax[node], floor)
+        result.static_min[node] = max(smin[node], floor)
+        if smin[node] < floor:
+            result.static_separated.add(node)

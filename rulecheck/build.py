@@ -115,6 +115,7 @@ class _Builder:
             profile=self.profile_id,
             cold_temperature=self.temperature(water, "cold_temperature", 288.15),
             hot_temperature=self.temperature(water, "hot_temperature", 333.15),
+            demand_curve=project.get("demand_curve", "auto"),
         )
         layout.supplies = [self.supply(p, s) for p, s in self.items("supplies")]
         layout.points = [

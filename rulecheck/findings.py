@@ -51,8 +51,10 @@ class Finding:
             "column": self.column,
             "message": self.message,
         }
-        if self.measured is not None:
-            data["measured"] = _clean(self.measured)
+        if self.measured is not None or self.limit is not None:
+            # measured is null where there is no such quantity to show (a shortfall, not a
+            # pressure); the message says what happens instead
+            data["measured"] = _clean(self.measured) if self.measured is not None else None
             data["limit"] = _clean(self.limit) if self.limit is not None else None
             data["unit"] = SI_UNIT.get(self.kind or "", self.kind or "")
         data["source"] = self.source

@@ -174,6 +174,8 @@ class Layout:
     profile: str
     cold_temperature: float  # [K]
     hot_temperature: float  # [K]
+    # which column of IPC Table E103.3(3): auto (per pipe) | flush-tank | flushometer
+    demand_curve: str = "auto"
     supplies: list[Supply] = field(default_factory=list)
     heaters: list[Heater] = field(default_factory=list)
     points: list[Point] = field(default_factory=list)

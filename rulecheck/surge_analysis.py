@@ -22,6 +22,7 @@ from rulecheck.physics.surge import (
     column_separates,
     critical_time,
     min_safe_closure_time,
+    screening_minimum,
     surge_pressure,
 )
 from rulecheck.physics.wavespeed import wave_speed
@@ -44,7 +45,7 @@ class ValveEvent:
     static_min: float  # [Pa]
     unprotected_peak: float  # static max + surge [Pa]
     peak: float  # as credited (capped at the design limit when protected) [Pa]
-    min_pressure: float  # static min − surge [Pa]
+    min_pressure: float  # max(static min − surge, vapour pressure − p_atm), gauge [Pa]
     min_safe_closure: float  # closure time keeping the peak at the design limit [s]
     lowest_rating: float  # lowest allowable pressure of a pipe on the path [Pa]
     lowest_rating_pipe: str
@@ -170,7 +171,9 @@ def _screen_one(
     surge = surge_pressure(water.density, lengths, a, dv, t) if path else 0.0
     smax, smin = analysis.static_max[point], analysis.static_min[point]
     unprotected = smax + surge
-    minimum = smin - surge
+    # static min − surge; below the vapour pressure it is not a pressure: the column
+    # separates and the water stays at p_v (engineering-basis §7)
+    drawn_down = smin - surge
     temperature = layout.temperature(side)
     ratings = [(p.material.rating_at(temperature), p.id) for p in pipes]
     lowest, lowest_pipe = min(ratings) if ratings else (np.inf, "")
@@ -188,7 +191,7 @@ def _screen_one(
         static_min=smin,
         unprotected_peak=unprotected,
         peak=min(unprotected, profile.surge_limit) if protector else unprotected,
-        min_pressure=minimum,
+        min_pressure=screening_minimum(smin, surge, water.vapour_pressure, STANDARD_ATMOSPHERE),
         min_safe_closure=(
             min_safe_closure_time(water.density, lengths, dv, smax, profile.surge_limit)
             if path
@@ -198,7 +201,7 @@ def _screen_one(
         lowest_rating_pipe=lowest_pipe,
         protected_by=protector,
         column_separation=protector is None
-        and column_separates(minimum, water.vapour_pressure, STANDARD_ATMOSPHERE),
+        and column_separates(drawn_down, water.vapour_pressure, STANDARD_ATMOSPHERE),
     )
 
 

@@ -1,8 +1,9 @@
 """Baselines: ``--write-baseline`` records today's findings, ``--baseline`` reports only new ones.
 
 The layout is ``conftest.MINIMAL`` with a 95 psi supply, over the 80 psi static
-limit [S: UPC 608.2] (a violation at SVC), and a 14 gpm demand in 3/4 in type L
-copper, 9.28 ft/s against 8 ft/s [S: NSPC 10.14.1; bore 0.785 in per ASTM B88]
+limit [S: UPC 608.2] (a violation at J1, the first point after the service), and a
+14 gpm demand in 3/4 in type L copper, 9.28 ft/s against 8 ft/s
+[S: NSPC 10.14.1; bore 0.785 in per ASTM B88]
 (a caution on P1). The key of a baseline entry is (path relative to the
 working folder, rule, element): the tests shift lines and change values to show
 that an accepted finding stays accepted, and add elements to show that new
@@ -74,7 +75,7 @@ def test_write_baseline_records_findings_and_accepts_them(cli: Cli, project: Pat
     data = json.loads((project / "baseline.json").read_text(encoding="utf-8"))
     assert data["version"] == 1
     assert data["findings"] == [
-        {"path": "layouts/house.yaml", "rule": "static-pressure", "element": "SVC", "count": 1},
+        {"path": "layouts/house.yaml", "rule": "static-pressure", "element": "J1", "count": 1},
         {"path": "layouts/house.yaml", "rule": "velocity-limit", "element": "P1", "count": 1},
     ]
 
@@ -117,7 +118,7 @@ def test_a_new_file_is_not_covered(cli: Cli, project: Path) -> None:
 
 
 def test_waived_findings_are_not_recorded_and_stay_visible(cli: Cli, project: Path) -> None:
-    waiver = "waivers:\n  - {rule: static-pressure, element: SVC, reason: Utility agreed.}\n"
+    waiver = "waivers:\n  - {rule: static-pressure, element: J1, reason: Utility agreed.}\n"
     (project / "layouts" / "house.yaml").write_text(LAYOUT + waiver, encoding="utf-8")
     cli("check", "--write-baseline", "baseline.json", "layouts")
     data = json.loads((project / "baseline.json").read_text(encoding="utf-8"))
@@ -129,7 +130,7 @@ def test_waived_findings_are_not_recorded_and_stay_visible(cli: Cli, project: Pa
     ]
     rc, document = _json(cli, "--baseline", "baseline.json", "--no-waivers", "layouts")
     assert rc == EXIT_FINDINGS  # audit mode: the waived violation is not in the baseline
-    assert _rules(document) == [("static-pressure", "SVC")]
+    assert _rules(document) == [("static-pressure", "J1")]
 
 
 def test_counts_hide_only_as_many_findings_as_recorded() -> None:

@@ -34,7 +34,7 @@ LAYOUT = tweak(
     ("pressure: 60 psi", "pressure: 95 psi"),
     ("service: cold}", "service: cold, demand: 14 gpm}"),
 )
-WAIVER = "waivers:\n  - {rule: static-pressure, element: SVC, reason: Reviewed with the utility.}\n"
+WAIVER = "waivers:\n  - {rule: static-pressure, element: J1, reason: Reviewed with the utility.}\n"
 
 Cli = Callable[..., tuple[int, str, str]]
 

@@ -23,6 +23,9 @@ class HunterTable:
     tank: np.ndarray  # [gpm], systems predominantly flush tanks
     flushometer: np.ndarray  # [gpm], systems predominantly flushometer valves; NaN where absent
     source: str
+    # "predominantly": flushometer valves carry more than this share of a pipe's WSFU [-] [CP]
+    flushometer_share: float = 0.5
+    share_basis: str = "common practice [CP]"
 
 
 @cache
@@ -61,7 +64,92 @@ def hunter_table() -> HunterTable:
         column.setflags(write=False)
     if np.any(np.diff(columns["wsfu"]) <= 0) or np.any(np.isnan(columns["tank"])):
         raise ValueError("hunter.yaml: WSFU must rise row by row and every row needs a tank flow")
-    return HunterTable(**columns, source=data["source"])
+    rule = data["predominantly"]
+    share = float(rule["flushometer_share"])
+    if not 0.0 <= share < 1.0:
+        raise ValueError("hunter.yaml: predominantly.flushometer_share must lie in [0, 1)")
+    return HunterTable(
+        **columns,
+        source=data["source"],
+        flushometer_share=share,
+        share_basis=" ".join(str(rule["basis"]).split()),
+    )
+
+
+#: ``project.demand_curve`` values: decide per pipe, or one column for every pipe.
+DEMAND_CURVES = ("auto", "flush-tank", "flushometer")
+
+
+def flushometer_column(
+    flushometer_wsfu: ArrayLike,
+    wsfu: ArrayLike,
+    curve: str = "auto",
+    share: float | None = None,
+) -> np.ndarray:
+    """Which column of IPC Table E103.3(3) each pipe reads: True for flushometer valves.
+
+    auto: flushometer where W_fv / W > s, else flush tank; W_fv the fixture units of the
+    flushometer-valve fixtures the pipe serves, W all the fixture units it serves,
+    s = 0.5 by default ("predominantly" read as more than half [CP]);
+    ``flush-tank`` or ``flushometer`` choose that column for every pipe.
+
+    Parameters
+    ----------
+    flushometer_wsfu : float or ndarray
+        Fixture units served by flushometer valves W_fv [-], >= 0.
+    wsfu : float or ndarray
+        All fixture units served W [-], >= W_fv.
+    curve : str
+        ``auto``, ``flush-tank`` or ``flushometer`` (``project.demand_curve``) [-].
+    share : float, optional
+        Threshold share s [-]; default the shipped ``hunter_table().flushometer_share``.
+
+    Returns
+    -------
+    ndarray of bool
+        True where the flushometer column applies [-].
+
+    Raises
+    ------
+    ValueError
+        On an unknown ``curve``.
+
+    Notes
+    -----
+    The table's columns are for supply systems "predominantly for flush tanks" and
+    "predominantly for flushometer valves" [1]; the code gives no number, so the
+    threshold is common practice [CP]. Below the flushometer column's first row
+    (5 WSFU) ``demand_flow`` reads the tank column whatever is chosen here. A pipe
+    serving no fixture units reads the tank column [D].
+
+    Examples
+    --------
+    One public flushometer closet (10 WSFU) among 40 WSFU of flush-tank fixtures
+    serves 20 % of the units: the tank column, 29.1 gpm at 50 WSFU, not 50.0 [1]:
+
+    >>> bool(flushometer_column(10.0, 50.0))
+    False
+    >>> bool(flushometer_column(40.0, 50.0)), bool(flushometer_column(0.0, 50.0, "flushometer"))
+    (True, True)
+
+    References
+    ----------
+    1. International Plumbing Code, Appendix E, Table E103.3(3), column headings
+       [S: IPC Table E103.3(3)].
+    """
+    fv, n = np.broadcast_arrays(
+        np.asarray(flushometer_wsfu, dtype=float), np.asarray(wsfu, dtype=float)
+    )
+    if curve == "flushometer":
+        return np.ones(n.shape, dtype=bool)
+    if curve == "flush-tank":
+        return np.zeros(n.shape, dtype=bool)
+    if curve != "auto":
+        raise ValueError(f"demand curve {curve!r}: use one of {', '.join(DEMAND_CURVES)}")
+    threshold = hunter_table().flushometer_share if share is None else share
+    with np.errstate(divide="ignore", invalid="ignore"):
+        fraction = np.where(n > 0, fv / np.where(n > 0, n, 1.0), 0.0)
+    return np.asarray(fraction > threshold, dtype=bool)
 
 
 def _interpolate(x: np.ndarray, xp: np.ndarray, fp: np.ndarray) -> np.ndarray:
@@ -77,16 +165,17 @@ def demand_flow(
     """Design demand flow by Hunter's curve, linear interpolation in IPC Table E103.3(3).
 
     Q = GPM * (q_i + (q_(i+1) - q_i)(n - n_i)/(n_(i+1) - n_i)) for n WSFU between
-    rows n_i and n_(i+1), q from the flushometer column when the pipe serves a
-    flushometer valve and n >= 5 (its first row), else from the flush-tank
-    column; GPM = 6.30901964e-5 m^3/s per gpm.
+    rows n_i and n_(i+1), q from the flushometer column where ``flushometer``
+    is set (see ``flushometer_column``) and n >= 5 (its first row), else from
+    the flush-tank column; GPM = 6.30901964e-5 m^3/s per gpm.
 
     Parameters
     ----------
     wsfu : float or ndarray
         Water-supply fixture units served [-], >= 0.
     flushometer : bool or ndarray of bool
-        True where a flushometer-valve fixture is downstream [-].
+        True where the pipe reads the flushometer column (a system
+        predominantly of flushometer valves, ``flushometer_column``) [-].
     table : HunterTable, optional
         Table to use, flows in [gpm]; default the shipped ``hunter_table()``.
 

@@ -320,6 +320,56 @@ def column_separates(
     return bool(min_pressure + atmospheric <= vapour_pressure)
 
 
+def screening_minimum(
+    static_min: float,
+    surge: float,
+    vapour_pressure: float,
+    atmospheric: float = STANDARD_ATMOSPHERE,
+) -> float:
+    """Lowest gauge pressure of the screening, floored at the vapour pressure.
+
+    p_min = max(p_static,min - dp, p_v - p_atm)
+
+    Parameters
+    ----------
+    static_min : float
+        Lowest static gauge pressure at the valve p_static,min [Pa].
+    surge : float
+        Pressure change of the closure dp [Pa], >= 0.
+    vapour_pressure : float
+        Absolute vapour pressure of the water p_v [Pa].
+    atmospheric : float
+        Atmospheric pressure p_atm [Pa], default 101325 Pa [S: ISO 2533].
+
+    Returns
+    -------
+    float
+        Minimum gauge pressure the water reaches [Pa], never below p_v - p_atm.
+
+    Notes
+    -----
+    Water cannot be pulled below its vapour pressure: where p_static,min - dp
+    would fall lower, the column separates at p_v instead (engineering-basis
+    section 7) and the difference is not a pressure [1]. Use
+    ``column_separates`` on the unfloored value to tell the two apart.
+
+    Examples
+    --------
+    Water at 20 degC, p_v = 2339 Pa [S: IAPWS-IF97]: 400 kPa static less a
+    3000 kPa surge stops at 2339 - 101325 = -98986 Pa gauge [D]:
+
+    >>> screening_minimum(400e3, 3000e3, 2339.0)
+    -98986.0
+
+    References
+    ----------
+    1. Bergant, A., Simpson, A. R., Tijsseling, A. S. (2006). Water hammer with
+       column separation: a historical review. J. Fluids Struct. 22, 135-171
+       [S: Bergant, Simpson & Tijsseling 2006].
+    """
+    return float(max(static_min - surge, vapour_pressure - atmospheric))
+
+
 def allievi_peak_ratio(
     length: float, velocity: float, head: float, closure_time: float, g: float = STANDARD_GRAVITY
 ) -> float:

@@ -3,6 +3,9 @@
 from __future__ import annotations
 
 from rulecheck.analysis import Analysis
+from rulecheck.physics.demand import hunter_table
+from rulecheck.physics.surge import STANDARD_ATMOSPHERE
+from rulecheck.surge_analysis import ValveEvent
 from rulecheck.units import from_si, unit_label
 
 
@@ -24,10 +27,55 @@ def _num(value: float, kind: str, units: str, decimals: int = 2) -> str:
     return f"{from_si(value, kind, units):.{decimals}f}"
 
 
+def _at_vapour(analysis: Analysis, event: ValveEvent) -> bool:
+    """Whether a valve's minimum sits at the vapour pressure floor (within 1 Pa)."""
+    water = analysis.water_for(event.side)
+    return event.min_pressure <= water.vapour_pressure - STANDARD_ATMOSPHERE + 1.0
+
+
+def _residual(value: float, units: str) -> str:
+    """A residual pressure, or below zero the shortfall at design flow (not a pressure)."""
+    return (
+        _num(value, "pressure", units, 1)
+        if value >= 0.0
+        else "short " + _num(-value, "pressure", units, 1)
+    )
+
+
+def demand_curve_line(analysis: Analysis) -> str:
+    """How fixture units became flow: the project's choice and, under auto, the rule."""
+    if analysis.demand_curve != "auto":
+        return (
+            f"Demand curve: the {analysis.demand_curve} column of IPC Table E103.3(3) for every "
+            "pipe (project.demand_curve); the flush-tank column below 5 WSFU"
+        )
+    table = hunter_table()
+    return (
+        "Demand curve: auto, per pipe: the flushometer column of IPC Table E103.3(3) where "
+        f"flushometer valves carry over {table.flushometer_share * 100:g} % of the fixture "
+        'units the pipe serves ("predominantly"; the threshold is common practice [CP]), '
+        "else the flush-tank column; the flush-tank column below 5 WSFU"
+    )
+
+
+def pipe_curve(analysis: Analysis, index: int) -> str:
+    """The column a pipe's demand flow was read from, or why none was."""
+    pipe = analysis.layout.pipes[index]
+    if pipe.demand is not None:
+        return "override"
+    if pipe.service == "hot-return" or analysis.fixtures_served[index] == 0:
+        return "-"
+    if analysis.fixtures_served[index] == 1:
+        return "one fixture"
+    return "flushometer" if analysis.flushometer_column[index] else "flush-tank"
+
+
 def render_analysis(analysis: Analysis) -> str:
     layout, units = analysis.layout, analysis.layout.units
     lab = {k: unit_label(k, units) for k in ("flow", "velocity", "pressure", "length")}
     out = [f"{layout.name}  ({layout.path}, profile {layout.profile}, units {units})", ""]
+    out += [demand_curve_line(analysis), ""]
+    auto = analysis.demand_curve == "auto"
     rows = []
     speeds = analysis.surge.wave_speed if analysis.surge is not None else None
     for i, p in enumerate(layout.pipes):
@@ -41,6 +89,8 @@ def render_analysis(analysis: Analysis) -> str:
                 _num(analysis.velocity[i], "velocity", units),
                 _num(analysis.friction_drop[i], "pressure", units),
                 _num(float(speeds[i]), "velocity", units, 0) if speeds is not None else "-",
+                pipe_curve(analysis, i),
+                *([f"{analysis.flushometer_share[i] * 100:.0f}"] if auto else []),
             ]
         )
     out += _table(
@@ -53,16 +103,19 @@ def render_analysis(analysis: Analysis) -> str:
             f"velocity [{lab['velocity']}]",
             f"friction [{lab['pressure']}]",
             f"wave speed [{lab['velocity']}]",
+            "curve",
+            *(["flushometer WSFU [%]"] if auto else []),
         ],
         rows,
     )
     out.append("")
+    separated = analysis.static_separated
     rows = [
         [
             n,
             _num(analysis.static_max[n], "pressure", units, 1),
-            _num(analysis.static_min[n], "pressure", units, 1),
-            _num(analysis.residual[n], "pressure", units, 1),
+            _num(analysis.static_min[n], "pressure", units, 1) + ("*" if n in separated else ""),
+            _residual(analysis.residual[n], units),
         ]
         for n in sorted(analysis.static_max)
     ]
@@ -75,6 +128,15 @@ def render_analysis(analysis: Analysis) -> str:
         ],
         rows,
     )
+    if separated:
+        out.append(
+            "* vapour pressure: the supply cannot hold the water column up at rest here; "
+            "it separates"
+        )
+    if any(v < 0.0 for v in analysis.residual.values()):
+        out.append(
+            "short: no pressure is left at design flow; the figure is the shortfall, not a pressure"
+        )
     if analysis.surge is not None and analysis.surge.events:
         out.append("")
         rows = [
@@ -85,7 +147,8 @@ def render_analysis(analysis: Analysis) -> str:
                 f"{e.critical_time * 1000:.1f}",
                 _num(e.surge, "pressure", units, 1),
                 _num(e.peak, "pressure", units, 1),
-                _num(e.min_pressure, "pressure", units, 1),
+                _num(e.min_pressure, "pressure", units, 1)
+                + ("*" if _at_vapour(analysis, e) else ""),
                 e.protected_by or "-",
             ]
             for e in analysis.surge.events
@@ -103,4 +166,9 @@ def render_analysis(analysis: Analysis) -> str:
             ],
             rows,
         )
+        if any(_at_vapour(analysis, e) for e in analysis.surge.events):
+            out.append(
+                "* vapour pressure, the lowest water can reach: the column separates unless "
+                "an arrester protects the valve"
+            )
     return "\n".join(out)

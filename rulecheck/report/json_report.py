@@ -8,6 +8,8 @@ from typing import Any
 from rulecheck.analysis import Analysis
 from rulecheck.errors import InputError
 from rulecheck.findings import SEVERITIES, Finding, _clean
+from rulecheck.physics.demand import hunter_table
+from rulecheck.report.analysis_text import demand_curve_line, pipe_curve
 from rulecheck.report.text import summary_counts
 
 
@@ -58,12 +60,29 @@ def valve_records(analysis: Analysis) -> list[dict[str, Any]]:
             "surge": _clean(e.surge),
             "peak_pressure": _clean(e.peak),
             "min_pressure": _clean(e.min_pressure),
+            "column_separation": e.column_separation,
             "protected_by": e.protected_by,
             "quick": e.quick,
             "method": e.method,
         }
         for e in analysis.surge.events
     ]
+
+
+def _point_record(analysis: Analysis, node: str) -> dict[str, Any]:
+    """Static pressures (floored at the vapour pressure) and the residual at design flow;
+    a residual below zero is given as ``residual_shortfall`` [Pa], with a null pressure."""
+    residual = analysis.residual[node]
+    record: dict[str, Any] = {
+        "static_pressure_max": _clean(analysis.static_max[node]),
+        "static_pressure_min": _clean(analysis.static_min[node]),
+        "residual_pressure": _clean(residual) if residual >= 0.0 else None,
+    }
+    if residual < 0.0:
+        record["residual_shortfall"] = _clean(-residual)
+    if node in analysis.static_separated:
+        record["static_column_separates"] = True
+    return record
 
 
 def analysis_document(analysis: Analysis) -> dict[str, Any]:
@@ -76,19 +95,31 @@ def analysis_document(analysis: Analysis) -> dict[str, Any]:
             "velocity": _clean(float(analysis.velocity[i])),
             "head_loss": _clean(float(analysis.friction_drop[i])),
             "wsfu": _clean(float(analysis.wsfu[i])),
+            "demand_curve": pipe_curve(analysis, i),
+            "flushometer_share": _clean(float(analysis.flushometer_share[i])),
         }
         if wave_speed is not None:
             entry["wave_speed"] = _clean(float(wave_speed[i]))
         pipes[pipe.id] = entry
-    points = {
-        node: {
-            "static_pressure_max": _clean(analysis.static_max[node]),
-            "static_pressure_min": _clean(analysis.static_min[node]),
-            "residual_pressure": _clean(analysis.residual[node]),
-        }
-        for node in sorted(analysis.static_max)
+    points = {node: _point_record(analysis, node) for node in sorted(analysis.static_max)}
+    document: dict[str, Any] = {
+        "version": 1,
+        "path": layout.path,
+        "demand_curve": {
+            "setting": analysis.demand_curve,
+            "rule": demand_curve_line(analysis).removeprefix("Demand curve: "),
+            **(
+                {
+                    "flushometer_share_over": hunter_table().flushometer_share,
+                    "basis": hunter_table().share_basis,
+                }
+                if analysis.demand_curve == "auto"
+                else {}
+            ),
+        },
+        "pipes": pipes,
+        "points": points,
     }
-    document: dict[str, Any] = {"version": 1, "path": layout.path, "pipes": pipes, "points": points}
     document["valves"] = valve_records(analysis)
     return document
 

@@ -10,6 +10,7 @@ from collections.abc import Callable
 
 from rulecheck.analysis import Analysis
 from rulecheck.engine import run_rules
+from rulecheck.physics.surge import STANDARD_ATMOSPHERE
 from rulecheck.resources import data_dir
 from rulecheck.surge_analysis import ValveEvent
 from rulecheck.units import fmt
@@ -47,11 +48,22 @@ def _surge_steps(a: Analysis, units: str) -> list[str]:
         f"peak = static max {f(e.static_max, 'pressure')} + surge = "
         f"{f(e.unprotected_peak, 'pressure')}"
         f" (limit {f(a.profile.surge_limit, 'pressure')})",
-        f"minimum = static min {f(e.static_min, 'pressure')} − surge = "
-        f"{f(e.min_pressure, 'pressure')} gauge → column separation: "
-        f"{'yes' if e.column_separation else 'no'}",
+        _minimum_step(a, e, units),
         f"minimum safe closure time for the limit: {e.min_safe_closure * 1000:.0f} ms",
     ]
+
+
+def _minimum_step(a: Analysis, e: ValveEvent, units: str) -> str:
+    """The minimum, floored at the vapour pressure: below it the column separates."""
+    vapour = a.water_for(e.side).vapour_pressure - STANDARD_ATMOSPHERE
+    drop = f"minimum = static min {fmt(e.static_min, 'pressure', units)} − surge"
+    if e.static_min - e.surge > vapour:
+        return f"{drop} = {fmt(e.min_pressure, 'pressure', units)} gauge → column separation: no"
+    return (
+        f"{drop} would fall below the vapour pressure, {fmt(vapour, 'pressure', units)} "
+        "gauge: water goes no lower, the column separates"
+        + ("" if e.column_separation else f" unless arrester {e.protected_by} holds it")
+    )
 
 
 def _velocity_steps(a: Analysis, units: str) -> list[str]:
