@@ -19,6 +19,7 @@ from typing import Any
 from rulecheck.config import relative_posix
 from rulecheck.errors import NO_POSITION, InputError, Position
 from rulecheck.findings import Finding
+from rulecheck.textscan import deep_nesting, digit_limit, long_number
 
 BASELINE_VERSION = 1
 
@@ -61,7 +62,8 @@ def read_baseline(source: str | Path) -> Counter[Key]:
     """Read a baseline file; a missing or malformed one is an :class:`InputError`."""
     name = str(source)
     try:
-        data = json.loads(Path(source).read_text(encoding="utf-8-sig"))
+        text = Path(source).read_text(encoding="utf-8-sig")
+        data = json.loads(text)
     except FileNotFoundError:
         raise InputError.at(
             name, NO_POSITION, "no such baseline file", "write one first with --write-baseline"
@@ -73,6 +75,20 @@ def read_baseline(source: str | Path) -> Counter[Key]:
             name,
             Position(exc.lineno, exc.colno),
             f"not JSON: {exc.msg}",
+            "write the baseline again with --write-baseline",
+        ) from None
+    except RecursionError:
+        raise InputError.at(
+            name,
+            deep_nesting(text),
+            "the JSON is nested too deeply for a baseline",
+            "write the baseline again with --write-baseline",
+        ) from None
+    except ValueError:  # an integer past Python's digit limit: json gives no position
+        raise InputError.at(
+            name,
+            long_number(text) or NO_POSITION,
+            f"a number with more than {digit_limit()} digits",
             "write the baseline again with --write-baseline",
         ) from None
     entries = data.get("findings") if isinstance(data, dict) else None

@@ -19,7 +19,7 @@ from rich.console import Console
 from rulecheck import __version__
 from rulecheck.config import FAIL_ON, load_config
 from rulecheck.engine import Settings
-from rulecheck.errors import EXIT_FINDINGS, EXIT_INPUT, EXIT_OK, InputError
+from rulecheck.errors import EXIT_FINDINGS, EXIT_INPUT, EXIT_OK, InputError, visible
 from rulecheck.findings import SEVERITY_RANK, Finding
 from rulecheck.profiles import default_profile_id, profile_ids
 from rulecheck.report import CAUTION
@@ -27,6 +27,7 @@ from rulecheck.report.explain import explain_text, rules_table
 from rulecheck.report.json_report import analysis_document, check_document, dumps
 from rulecheck.report.text import render_check
 from rulecheck.rulebook import rule_specs
+from rulecheck.suggest import suggest
 
 LAYOUT_SUFFIXES = (".yaml", ".yml")
 
@@ -138,7 +139,10 @@ def print_input_error(error: InputError) -> None:
     for problem in error.problems:
         print(problem.render(), file=sys.stderr)
     if error.omitted:
-        print(f"… and {error.omitted} more problems in {error.problems[0].path}", file=sys.stderr)
+        print(
+            visible(f"… and {error.omitted} more problems in {error.problems[0].path}"),
+            file=sys.stderr,
+        )
 
 
 def reaches(finding: Finding, fail_on: str) -> bool:
@@ -257,9 +261,8 @@ def cmd_analyze(args: argparse.Namespace, console: Console) -> int:
 def cmd_explain(args: argparse.Namespace) -> int:
     spec = rule_specs().get(args.rule)
     if spec is None:
-        raise UsageError(
-            f"rulecheck explain: unknown rule '{args.rule}' (known: {', '.join(rule_specs())})"
-        )
+        hint = suggest(args.rule, rule_specs(), "`rulecheck rules`")
+        raise UsageError(f"rulecheck explain: unknown rule '{args.rule}' ({hint})")
     from rulecheck.report.worked import worked_example
 
     sys.stdout.write(
@@ -298,7 +301,7 @@ def main(argv: list[str] | None = None) -> int:
             print(schema_path())
             return EXIT_OK
     except UsageError as exc:
-        print(f"{exc}\nTry 'rulecheck --help'.", file=sys.stderr)
+        print(f"{visible(str(exc))}\nTry 'rulecheck --help'.", file=sys.stderr)
         return EXIT_INPUT
     except InputError as exc:
         print_input_error(exc)

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from rulecheck.analysis import Analysis
+from rulecheck.errors import visible
 from rulecheck.units import from_si, unit_label
 
 
@@ -103,4 +104,4 @@ def render_analysis(analysis: Analysis) -> str:
             ],
             rows,
         )
-    return "\n".join(out)
+    return visible("\n".join(out), keep_newlines=True)
