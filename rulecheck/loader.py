@@ -468,6 +468,15 @@ def syntax_error(exc: yaml.MarkedYAMLError, text: str) -> tuple[Position, str, s
             "indent it by exactly as many spaces as the key it belongs beside",
         )
     if "mapping values are not allowed" in problem:
+        above = _over_indented(text, pos.line)
+        if above:
+            here = text.split("\n")[pos.line - 1]
+            return (
+                Position(pos.line, len(here) - len(here.lstrip(" ")) + 1),
+                f"this line is indented further than the key above it (line {above}), "
+                "which already has its value",
+                "indent it by exactly as many spaces as the key it belongs beside",
+            )
         return (
             pos,
             "a ':' where no key can start: a line above may lack its colon, "
@@ -484,6 +493,24 @@ def syntax_error(exc: yaml.MarkedYAMLError, text: str) -> tuple[Position, str, s
         return pos, "a second document ('---') in the file", "a layout is one YAML document"
     what = exc.problem or exc.context or "not valid YAML"
     return pos, what, "fix the YAML at this spot"
+
+
+def _over_indented(text: str, line: int) -> int:
+    """The line above ``line`` (1-based) if ``line`` is indented deeper than it while that
+    line already holds a value (``key: value``), else 0."""
+    lines = text.split("\n")
+    if not 1 <= line <= len(lines):
+        return 0
+    here = lines[line - 1]
+    for number in range(line - 1, 0, -1):
+        above = lines[number - 1]
+        body = above.strip()
+        if not body or body.startswith("#"):
+            continue
+        deeper = len(here) - len(here.lstrip(" ")) > len(above) - len(above.lstrip(" "))
+        has_value = ":" in body and not body.endswith(":")
+        return number if deeper and has_value else 0
+    return 0
 
 
 def _too_deep(path: str) -> InputError:

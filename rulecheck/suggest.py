@@ -10,7 +10,8 @@ Ranking, best first:
 1. the same name but for letter case, ``_`` / ``-`` / spaces;
 2. names that contain what was written, or that it contains (``closet`` →
    every ``water-closet-…`` type);
-3. names close in spelling (:func:`difflib.get_close_matches`, ratio ≥ 0.6);
+3. names close in spelling (:func:`difflib.get_close_matches`, ratio ≥ 0.6, or 0.5
+   for names of up to three characters);
 4. names whose title shares a word with what was written, after the everyday
    words in :data:`EVERYDAY_WORDS` are turned into the trade's words
    (``toilet`` → "water closet"), when titles are given.
@@ -71,15 +72,16 @@ def closest(
         ranked += [
             n for n in names if target in folded[n] or (len(folded[n]) >= 3 and folded[n] in target)
         ]
+    cutoff = 0.5 if len(target) <= 3 else 0.6  # "J2" is one letter from "J1": ratio 0.5
     by_fold = {folded[n]: n for n in names}
     ranked += [
-        by_fold[f] for f in difflib.get_close_matches(target, list(by_fold), n=SHOWN, cutoff=0.6)
+        by_fold[f] for f in difflib.get_close_matches(target, list(by_fold), n=SHOWN, cutoff=cutoff)
     ]
     heads: dict[str, list[str]] = {}  # "DW1:hot" is also compared as "DW1"
     for n in names:
         if ":" in n:
             heads.setdefault(_fold(n.split(":")[0]), []).append(n)
-    for f in difflib.get_close_matches(target, list(heads), n=SHOWN, cutoff=0.6):
+    for f in difflib.get_close_matches(target, list(heads), n=SHOWN, cutoff=cutoff):
         ranked += heads[f]
     if titles:
         wanted = _words(word)
