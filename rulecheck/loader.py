@@ -468,12 +468,12 @@ def syntax_error(exc: yaml.MarkedYAMLError, text: str) -> tuple[Position, str, s
             "indent it by exactly as many spaces as the key it belongs beside",
         )
     if "mapping values are not allowed" in problem:
-        above = _over_indented(text, pos.line)
-        if above:
+        key_line = _over_indented(text, pos.line)
+        if key_line:
             here = text.split("\n")[pos.line - 1]
             return (
                 Position(pos.line, len(here) - len(here.lstrip(" ")) + 1),
-                f"this line is indented further than the key above it (line {above}), "
+                f"this line is indented further than the key above it (line {key_line}), "
                 "which already has its value",
                 "indent it by exactly as many spaces as the key it belongs beside",
             )
