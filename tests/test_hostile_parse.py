@@ -100,7 +100,7 @@ def test_alias_bomb_stops_at_an_alias(tmp_path: Path, text: str) -> None:
     found = errors_of(run.stderr)
     assert len(found) == 1, run.stderr
     _, line, col, message = found[0]
-    assert "alias" in message and "expand" in message
+    assert "alias" in message and "repeat" in message
     # the position is an alias in the file: '*' followed by the anchor the message names
     written = text.splitlines()[line - 1][col - 1 :]
     name = re.search(r"\*(\w+)", message)
