@@ -20,6 +20,7 @@ from rulecheck.config import relative_posix
 from rulecheck.errors import NO_POSITION, InputError, Position
 from rulecheck.files import MAX_BASELINE_BYTES, atomic_output, read_text
 from rulecheck.findings import Finding
+from rulecheck.textscan import deep_nesting, digit_limit, long_number
 
 BASELINE_VERSION = 1
 
@@ -63,12 +64,27 @@ def read_baseline(source: str | Path) -> Counter[Key]:
     name = str(source)
     missing = ("no such baseline file", "write one first with --write-baseline")
     try:
-        data = json.loads(read_text(source, MAX_BASELINE_BYTES, "baseline", missing))
+        text = read_text(source, MAX_BASELINE_BYTES, "baseline", missing)
+        data = json.loads(text)
     except json.JSONDecodeError as exc:
         raise InputError.at(
             name,
             Position(exc.lineno, exc.colno),
             f"not JSON: {exc.msg}",
+            "write the baseline again with --write-baseline",
+        ) from None
+    except RecursionError:
+        raise InputError.at(
+            name,
+            deep_nesting(text),
+            "the JSON is nested too deeply for a baseline",
+            "write the baseline again with --write-baseline",
+        ) from None
+    except ValueError:  # an integer past Python's digit limit: json gives no position
+        raise InputError.at(
+            name,
+            long_number(text) or NO_POSITION,
+            f"a number with more than {digit_limit()} digits",
             "write the baseline again with --write-baseline",
         ) from None
     entries = data.get("findings") if isinstance(data, dict) else None

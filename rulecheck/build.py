@@ -28,16 +28,17 @@ from rulecheck.model import (
 )
 from rulecheck.profiles import arrester_classes, default_profile_id, get_profile, profile_ids
 from rulecheck.reader import Reader
+from rulecheck.resources import data_dir
+from rulecheck.suggest import suggest
 
 # Range of the shipped water-property table [K] (0.01 °C to 99 °C).
 _T_MIN, _T_MAX = 273.16, 372.15
 _ELEMENT_KINDS = ("supplies", "heaters", "points", "pipes", "fixtures", "arresters", "devices")
 
 
-def _suggest(options: Iterable[str]) -> str:
-    names = sorted(options)
-    shown = ", ".join(names[:12]) + (", …" if len(names) > 12 else "")
-    return f"known: {shown}"
+def _catalog_file(name: str) -> str:
+    """Where a shipped list of names is, for hints."""
+    return str(data_dir("rules") / name)
 
 
 class _Builder:
@@ -54,7 +55,7 @@ class _Builder:
             self.problems.add(
                 doc.where(("project", "profile")),
                 f"unknown profile '{self.profile_id}'",
-                _suggest(profile_ids()),
+                suggest(str(self.profile_id), profile_ids(), _catalog_file("profiles.yaml")),
             )
             self.profile_id = default_profile_id()
         self.profile = get_profile(self.profile_id)
@@ -101,7 +102,7 @@ class _Builder:
             self.problems.add(
                 self.doc.where((*path, key)),
                 f"'{key}: {target}' names no {what} in this file",
-                _suggest(have),
+                suggest(str(target), have, f"the {what} ids in this file"),
             )
         return str(target)
 
@@ -179,7 +180,12 @@ class _Builder:
             self.problems.add(
                 self.doc.where((*path, "material")),
                 f"unknown material '{item['material']}'",
-                _suggest(self.catalog.materials),
+                suggest(
+                    str(item["material"]),
+                    self.catalog.materials,
+                    _catalog_file("materials.yaml") + " and this file's materials:",
+                    {k: m.name for k, m in self.catalog.materials.items()},
+                ),
             )
             return None
         label = size_label(item["size"])
@@ -187,7 +193,7 @@ class _Builder:
             self.problems.add(
                 self.doc.where((*path, "size")),
                 f"size '{label}' is not in the {material.id} table",
-                f"sizes: {', '.join(material.sizes)}",
+                suggest(label, material.sizes, f"the {material.id} size table", what="sizes"),
             )
             return None
         fittings = item.get("fittings", self.profile.fittings_allowance)
@@ -221,7 +227,12 @@ class _Builder:
             self.problems.add(
                 self.doc.where((*path, "type")),
                 f"unknown fixture type '{item['type']}'",
-                _suggest(self.catalog.fixture_types),
+                suggest(
+                    str(item["type"]),
+                    self.catalog.fixture_types,
+                    _catalog_file("fixture-types.yaml") + " and this file's fixture_types:",
+                    {k: t.name for k, t in self.catalog.fixture_types.items()},
+                ),
             )
             return None
         occupancy = item.get("occupancy", "private")
@@ -286,7 +297,7 @@ class _Builder:
             self.problems.add(
                 self.doc.where((*path, "rule")),
                 f"unknown rule '{item['rule']}'",
-                _suggest(self.known_rules),
+                suggest(str(item["rule"]), self.known_rules, "`rulecheck rules`"),
             )
         if item["element"] not in self.ids:
             self.problems.add(

@@ -27,6 +27,7 @@ from rulecheck.errors import (
     EXIT_INTERRUPTED,
     EXIT_OK,
     InputError,
+    visible,
 )
 from rulecheck.files import OutputError, UnreadableFile, atomic_output
 from rulecheck.findings import SEVERITY_RANK, Finding
@@ -37,6 +38,7 @@ from rulecheck.report.explain import explain_text, rules_table
 from rulecheck.report.json_report import analysis_document, check_document, dumps
 from rulecheck.report.text import render_check
 from rulecheck.rulebook import rule_specs
+from rulecheck.suggest import suggest
 
 DEBUG_OPTION = "--debug"
 
@@ -159,7 +161,10 @@ def print_input_error(error: InputError) -> None:
     for problem in error.problems:
         print(problem.render(), file=sys.stderr)
     if error.omitted:
-        print(f"… and {error.omitted} more problems in {error.problems[0].path}", file=sys.stderr)
+        print(
+            visible(f"… and {error.omitted} more problems in {error.problems[0].path}"),
+            file=sys.stderr,
+        )
 
 
 def reaches(finding: Finding, fail_on: str) -> bool:
@@ -284,9 +289,8 @@ def cmd_analyze(args: argparse.Namespace, console: Console) -> int:
 def cmd_explain(args: argparse.Namespace) -> int:
     spec = rule_specs().get(args.rule)
     if spec is None:
-        raise UsageError(
-            f"rulecheck explain: unknown rule '{args.rule}' (known: {', '.join(rule_specs())})"
-        )
+        hint = suggest(args.rule, rule_specs(), "`rulecheck rules`")
+        raise UsageError(f"rulecheck explain: unknown rule '{args.rule}' ({hint})")
     from rulecheck.report.worked import worked_example
 
     sys.stdout.write(
@@ -353,7 +357,7 @@ def _run(argv: list[str]) -> int:
             print(schema_path())
             return EXIT_OK
     except UsageError as exc:
-        print(f"{exc}\nTry 'rulecheck --help'.", file=sys.stderr)
+        print(f"{visible(str(exc))}\nTry 'rulecheck --help'.", file=sys.stderr)
         return EXIT_INPUT
     except InputError as exc:
         print_input_error(exc)

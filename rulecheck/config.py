@@ -20,7 +20,6 @@ so :func:`key_positions` finds them by scanning the text).
 
 from __future__ import annotations
 
-import difflib
 import os
 import re
 import tomllib
@@ -37,6 +36,8 @@ from rulecheck.files import MAX_CONFIG_BYTES, is_regular_file, read_text
 from rulecheck.findings import SEVERITIES
 from rulecheck.profiles import profile_ids
 from rulecheck.rulebook import RuleSpec, rule_specs
+from rulecheck.suggest import suggest
+from rulecheck.textscan import deep_nesting, digit_limit, long_number
 from rulecheck.units import QuantityError, to_si
 
 CONFIG_NAME = "rulecheck.toml"
@@ -152,6 +153,20 @@ def parse_config(text: str, path: Path, name: str | None = None) -> Config:
         raise InputError.at(
             name, pos, f"TOML syntax: {message}", "fix the TOML at this spot"
         ) from None
+    except RecursionError:
+        raise InputError.at(
+            name,
+            deep_nesting(text),
+            "the TOML is nested too deeply",
+            "a configuration needs only a few levels of tables and lists",
+        ) from None
+    except ValueError:  # an integer past Python's digit limit: tomllib gives no position
+        raise InputError.at(
+            name,
+            long_number(text) or NO_POSITION,
+            f"a number with more than {digit_limit()} digits",
+            'write an ordinary number, or a quantity such as "7 ft/s"',
+        ) from None
     positions = key_positions(text)
     problems = ProblemCollector(name)
 
@@ -255,7 +270,9 @@ def _limits(spec: RuleSpec, table: Any, key: KeyPath, problem: Any) -> dict[str,
             problem(
                 where,
                 f"unknown limit '{name}' for rule {spec.id}",
-                _known(name, known) if known else "this rule has no limits to set",
+                _known(name, known, f"`rulecheck explain {spec.id}`")
+                if known
+                else "this rule has no limits to set",
             )
             continue
         kind = quantity_kind(known[name])
@@ -462,7 +479,5 @@ def _string_end(line: str, i: int) -> int:
     return len(line)
 
 
-def _known(word: str, choices: Any) -> str:
-    close = difflib.get_close_matches(word, list(choices), n=1)
-    listing = ", ".join(choices)
-    return f"did you mean '{close[0]}'? known: {listing}" if close else f"known: {listing}"
+def _known(word: str, choices: Any, where: str = "`rulecheck rules`") -> str:
+    return suggest(word, choices, where)

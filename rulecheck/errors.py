@@ -7,6 +7,7 @@ CLI prints them and exits with :data:`EXIT_INPUT`; no traceback reaches the user
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 
 EXIT_OK = 0  #: nothing reached the --fail-on threshold
@@ -28,6 +29,29 @@ class Position:
 
 NO_POSITION = Position(1, 1)
 
+# C0 and C1 control characters, DEL, and the Unicode bidirectional overrides and isolates
+# (which reorder what a terminal or editor shows).
+_CONTROL = re.compile("[\x00-\x1f\x7f-\x9f\u200e\u200f\u202a-\u202e\u2066-\u2069]")
+
+
+def _escape(match: re.Match[str]) -> str:
+    code = ord(match.group())
+    return f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}"
+
+
+def visible(text: str, keep_newlines: bool = False) -> str:
+    """``text`` with every control character written out as its Python escape.
+
+    What a layout holds (keys, ids, waiver reasons, file names) reaches the terminal
+    in messages and the text report; an ESC there would be obeyed by the terminal
+    (retitle the window, clear the screen). Each control character shows as ``\\xNN``
+    (``\\uNNNN`` for the bidirectional controls): ESC as ``\\x1b``, a tab as
+    ``\\x09``, a newline as ``\\x0a`` unless ``keep_newlines`` (multi-line text).
+    """
+    if keep_newlines:
+        return "\n".join(_CONTROL.sub(_escape, line) for line in text.split("\n"))
+    return _CONTROL.sub(_escape, text)
+
 
 @dataclass(frozen=True)
 class InputProblem:
@@ -42,7 +66,7 @@ class InputProblem:
         text = f"{self.path}:{self.position.line}:{self.position.column}: error: {self.message}"
         if self.hint:
             text += f" ({self.hint})"
-        return text
+        return visible(text)
 
 
 class InputError(Exception):

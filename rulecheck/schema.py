@@ -15,6 +15,7 @@ jsonschema), so a later schema change can make validation slower, never wrong.
 
 from __future__ import annotations
 
+import datetime
 import json
 import numbers
 import re
@@ -82,7 +83,7 @@ def _describe(error: ValidationError) -> tuple[str, str]:
         return f"{where} must be {error.validator_value!r}, not {value!r}", ""
     if kind == "type":
         expected = error.validator_value
-        return f"{where} should be {_a(expected)}, not {_kind_of(value)}", ""
+        return f"{where} should be {_a(expected)}, not {_kind_of(value)}", _quote_hint(value)
     if kind == "pattern":
         if path and path[-1] in ("id", "from", "to", "at", "on", "element", "inlet", "outlet"):
             return (
@@ -140,7 +141,22 @@ def _kind_of(value: Any) -> str:
         return "a number"
     if value is None:
         return "empty"
-    return "text"
+    if isinstance(value, bytes):
+        return "binary data (YAML's !!binary tag)"
+    if isinstance(value, (datetime.date, datetime.datetime)):
+        return "a date or time (YAML reads an unquoted 2024-05-01 as a timestamp)"
+    if isinstance(value, str):
+        return "text"
+    return f"a YAML {type(value).__name__} value"
+
+
+def _quote_hint(value: Any) -> str:
+    """What to do when YAML read a value as a type the schema does not take."""
+    if isinstance(value, bytes):
+        return "drop the '!!binary' tag and write the text itself"
+    if isinstance(value, (datetime.date, datetime.datetime)):
+        return f"put it in quotes to keep it text, e.g. '{value.isoformat()}'"
+    return ""
 
 
 def validate(doc: Document, problems: ProblemCollector) -> None:

@@ -14,6 +14,7 @@ from rich.progress import Progress
 
 from rulecheck.errors import EXIT_OK, InputError, Position
 from rulecheck.findings import _clean
+from rulecheck.suggest import suggest
 from rulecheck.units import fmt
 
 
@@ -28,7 +29,7 @@ def _pick_event(analysis: Any, spec: str) -> Any:
             analysis.layout.path,
             Position(1, 1),
             f"--valve {spec}: no such fixture side in this layout",
-            f"valves: {', '.join(sides[:12])}",
+            suggest(spec, sides, "the fixtures in this file", what="valves"),
         )
     if len(events) > 1:
         raise InputError.at(

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from rulecheck.analysis import Analysis
+from rulecheck.errors import visible
 from rulecheck.physics.demand import hunter_table
 from rulecheck.physics.surge import STANDARD_ATMOSPHERE
 from rulecheck.surge_analysis import ValveEvent
@@ -171,4 +172,4 @@ def render_analysis(analysis: Analysis) -> str:
                 "* vapour pressure, the lowest water can reach: the column separates unless "
                 "an arrester protects the valve"
             )
-    return "\n".join(out)
+    return visible("\n".join(out), keep_newlines=True)

@@ -7,6 +7,7 @@ from collections import Counter
 from rich.console import Console
 from rich.markup import escape
 
+from rulecheck.errors import visible
 from rulecheck.findings import SEVERITIES, Finding
 from rulecheck.report import CAUTION
 
@@ -18,13 +19,18 @@ _STYLE = {
 }
 
 
+def _shown(text: str) -> str:
+    """Text from the layout as rich markup: control characters visible, markup escaped."""
+    return escape(visible(text))
+
+
 def finding_line(f: Finding) -> str:
     """``path:line:col  severity  rule-id  message  [source]`` as rich markup."""
-    waived = f" [dim](waived: {escape(f.waived)})[/dim]" if f.waived is not None else ""
-    fix = f" [dim]→ {escape(f.fix)}[/dim]" if f.fix else ""
+    waived = f" [dim](waived: {_shown(f.waived)})[/dim]" if f.waived is not None else ""
+    fix = f" [dim]→ {_shown(f.fix)}[/dim]" if f.fix else ""
     return (
-        f"{escape(f.path)}:{f.line}:{f.column}  [{_STYLE[f.severity]}]{f.severity}[/]  "
-        f"{f.rule}  {escape(f.message)}{fix}{waived}  [dim]\\[{escape(f.source)}][/dim]"
+        f"{_shown(f.path)}:{f.line}:{f.column}  [{_STYLE[f.severity]}]{f.severity}[/]  "
+        f"{_shown(f.rule)}  {_shown(f.message)}{fix}{waived}  [dim]\\[{_shown(f.source)}][/dim]"
     )
 
 
