@@ -199,7 +199,16 @@ class _Builder:
 
     def pipe(self, path: tuple, item: dict[str, Any]) -> Pipe | None:
         start = self.ref(path, "from", item, ("supplies", "points"))
-        end = self.ref(path, "to", item, ("points",))
+        if self.ids.get(item["to"], ("", ()))[0] == "supplies":  # drawn against the flow
+            self.problems.add(
+                self.doc.where((*path, "to")),
+                f"pipe {item['id']} runs into supply {item['to']}, where water enters",
+                f"'from' is the upstream end: write {item['id']} as "
+                f"'from: {item['to']}, to: {item['from']}'",
+            )
+            end = str(item["to"])
+        else:
+            end = self.ref(path, "to", item, ("points",))
         length = self.q(item, path, "length", "length", bound="pipe-length", positive=True)
         material = self.catalog.materials.get(item["material"])
         if material is None:
