@@ -51,9 +51,8 @@ def _si(text: str, kind: str) -> float:
 
 _BUILDING = "common practice for a building"
 _PRESSURE_HIGH = (
-    "building water systems run below about 2 MPa (300 psi) [common practice; from memory, "
-    "verify]; 10 MPa is twice the highest pipe rating in the catalog (730 psi, rules/"
-    "materials.yaml)"
+    "building systems run below about 2 MPa, 300 psi [common practice; from memory; verify]; "
+    "twice the highest pipe rating in the catalog (730 psi)"
 )
 
 #: Every bound, by role. Units in the texts are SI; messages show them as written here.
@@ -79,9 +78,9 @@ BOUNDS: dict[str, Bound] = {
         "elevation",
         "length",
         "-1 km",
-        "dry land reaches down to about -430 m (Dead Sea shore) [from memory, verify]",
+        "dry land reaches down to about -430 m (Dead Sea shore) [from memory; verify]",
         "9 km",
-        "dry land reaches up to 8849 m (Everest) [from memory, verify]",
+        "dry land reaches up to 8849 m (Everest) [from memory; verify]",
     ),
     "supply-pressure": Bound(
         "supply static pressure",
@@ -138,7 +137,7 @@ BOUNDS: dict[str, Bound] = {
         "time",
         "1 ms",
         "no plumbing valve closes faster; solenoid valves take some 10-50 ms "
-        "[from memory, verify against the manufacturer's data]",
+        "[from memory; verify against the manufacturer's data]",
         "1 h",
         "a valve that takes over an hour to close makes no surge; screening it is "
         "meaningless [common practice]",
