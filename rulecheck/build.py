@@ -8,6 +8,7 @@ collected and raised together.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Iterable
 from typing import Any
 
@@ -31,8 +32,6 @@ from rulecheck.reader import Reader
 from rulecheck.resources import data_dir
 from rulecheck.suggest import suggest
 
-# Range of the shipped water-property table [K] (0.01 °C to 99 °C).
-_T_MIN, _T_MAX = 273.16, 372.15
 _ELEMENT_KINDS = ("supplies", "heaters", "points", "pipes", "fixtures", "arresters", "devices")
 
 
@@ -61,6 +60,7 @@ class _Builder:
         self.profile = get_profile(self.profile_id)
         self.catalog: Catalog = project_catalog(doc, self.system, self.problems)
         self.ids: dict[str, tuple[str, tuple[str | int, ...]]] = {}
+        self.unpressured: list[tuple[Supply, tuple, str]] = []  # supplies at 0 gauge
 
     def q(
         self,
@@ -69,9 +69,10 @@ class _Builder:
         key: str,
         kind: str,
         default: float | None = None,
+        bound: str | None = None,
         **limits: bool,
     ) -> float:
-        value = self.reader.quantity(node, path, key, kind, default, **limits)
+        value = self.reader.quantity(node, path, key, kind, default, bound=bound, **limits)
         return 0.0 if value is None else value
 
     def items(self, key: str) -> Iterable[tuple[tuple[str, int], dict[str, Any]]]:
@@ -120,9 +121,10 @@ class _Builder:
         )
         layout.supplies = [self.supply(p, s) for p, s in self.items("supplies")]
         layout.points = [
-            Point(i["id"], self.q(i, p, "elevation", "length", 0.0), self.doc.where(p))
+            Point(i["id"], self.q(i, p, "elevation", "length", 0.0, "elevation"), self.doc.where(p))
             for p, i in self.items("points")
         ]
+        self.check_supplies_push(layout)
         layout.heaters = [self.heater(p, h) for p, h in self.items("heaters")]
         layout.pipes = [pipe for p, i in self.items("pipes") if (pipe := self.pipe(p, i))]
         layout.fixtures = [f for p, i in self.items("fixtures") if (f := self.fixture(p, i))]
@@ -136,45 +138,80 @@ class _Builder:
         return layout
 
     def temperature(self, water: dict[str, Any], key: str, default: float) -> float:
-        value = self.reader.quantity(water, ("water",), key, "temperature", default)
-        if value is not None and not _T_MIN <= value <= _T_MAX:
-            self.problems.add(
-                self.doc.where(("water", key)),
-                f"'{key}' is outside liquid water at atmospheric pressure",
-                "use a temperature between 0 °C and 99 °C (32 °F to 210 °F)",
-            )
+        value = self.reader.quantity(
+            water, ("water",), key, "temperature", default, bound="water-temperature"
+        )
         return default if value is None else value
 
     def supply(self, path: tuple, item: dict[str, Any]) -> Supply:
         pressure = item["pressure"]
+        problems_before = len(self.problems.problems) + self.problems.omitted
         if isinstance(pressure, dict):
             pp = (*path, "pressure")
-            low = self.q(pressure, pp, "min", "pressure", nonnegative=True)
-            high = self.q(pressure, pp, "max", "pressure", nonnegative=True)
+            low = self.q(pressure, pp, "min", "pressure", bound="supply-pressure", nonnegative=True)
+            high = self.q(
+                pressure, pp, "max", "pressure", bound="supply-pressure", nonnegative=True
+            )
             if low > high:
                 self.problems.add(
                     self.doc.where(pp), "supply pressure 'min' is above 'max'", "swap them"
                 )
         else:
-            low = high = self.q(item, path, "pressure", "pressure", nonnegative=True)
-        return Supply(
+            low = high = self.q(
+                item, path, "pressure", "pressure", bound="supply-pressure", nonnegative=True
+            )
+        supply = Supply(
             item["id"],
             low,
             high,
-            self.q(item, path, "elevation", "length", 0.0),
+            self.q(item, path, "elevation", "length", 0.0, "elevation"),
             self.doc.where(path),
         )
+        if high <= 0 and len(self.problems.problems) + self.problems.omitted == problems_before:
+            top = isinstance(pressure, dict) and "max" in pressure
+            where = (*path, "pressure", "max") if top else (*path, "pressure")
+            shown = pressure["max"] if top else pressure
+            self.unpressured.append((supply, where, f"max static {shown}"))
+        return supply
+
+    def check_supplies_push(self, layout: Layout) -> None:
+        """Refuse a supply at no pressure above atmospheric that stands below every point.
+
+        A supply at 0 gauge is legal: the free surface of a roof tank feeds the floors
+        below it by elevation alone. But when no point lies below it, the static pressure
+        p = p_s - rho*g*(z - z_s) is nowhere above zero and nothing flows [physical].
+        """
+        lowest = min((p.elevation for p in layout.points), default=math.inf)
+        for supply, where, shown in self.unpressured:
+            if lowest < supply.elevation:
+                continue
+            self.problems.add(
+                self.doc.where(where),
+                f"supply {supply.id} has no pressure above atmospheric ({shown}) and no "
+                "point lies below it, so no water flows anywhere",
+                "give the static pressure at the supply (e.g. 'pressure: {min: 55 psi, "
+                "max: 72 psi}'); 0 psi suits only a tank above the points it feeds",
+            )
 
     def heater(self, path: tuple, item: dict[str, Any]) -> Heater:
         inlet = self.ref(path, "inlet", item, ("points",))
         outlet = self.ref(path, "outlet", item, ("points",))
-        loss = self.q(item, path, "loss", "pressure", 0.0, nonnegative=True)
+        loss = self.q(item, path, "loss", "pressure", 0.0, "pressure-loss", nonnegative=True)
         return Heater(item["id"], inlet, outlet, loss, self.doc.where(path))
 
     def pipe(self, path: tuple, item: dict[str, Any]) -> Pipe | None:
         start = self.ref(path, "from", item, ("supplies", "points"))
-        end = self.ref(path, "to", item, ("points",))
-        length = self.q(item, path, "length", "length", positive=True)
+        if self.ids.get(item["to"], ("", ()))[0] == "supplies":  # drawn against the flow
+            self.problems.add(
+                self.doc.where((*path, "to")),
+                f"pipe {item['id']} runs into supply {item['to']}, where water enters",
+                f"'from' is the upstream end: write {item['id']} as "
+                f"'from: {item['to']}, to: {item['from']}'",
+            )
+            end = str(item["to"])
+        else:
+            end = self.ref(path, "to", item, ("points",))
+        length = self.q(item, path, "length", "length", bound="pipe-length", positive=True)
         material = self.catalog.materials.get(item["material"])
         if material is None:
             self.problems.add(
@@ -200,8 +237,12 @@ class _Builder:
         if isinstance(fittings, (int, float)) and not isinstance(fittings, bool):
             fittings_length = float(fittings) * length
         else:
-            fittings_length = self.q(item, path, "fittings", "length", nonnegative=True)
-        demand = self.reader.quantity(item, path, "demand", "flow", None, nonnegative=True)
+            fittings_length = self.q(
+                item, path, "fittings", "length", bound="fittings-length", nonnegative=True
+            )
+        demand = self.reader.quantity(
+            item, path, "demand", "flow", None, bound="demand", nonnegative=True
+        )
         od, wall = material.sizes[label]
         return Pipe(
             item["id"],
@@ -247,13 +288,25 @@ class _Builder:
             hot=hot,
             occupancy=occupancy,
             wsfu=wsfu,
-            flow=self.q(item, path, "flow", "flow", ftype.flow, positive=True),
+            flow=self.q(item, path, "flow", "flow", ftype.flow, "fixture-flow", positive=True),
             min_pressure=self.q(
-                item, path, "min_pressure", "pressure", ftype.min_pressure, nonnegative=True
+                item,
+                path,
+                "min_pressure",
+                "pressure",
+                ftype.min_pressure,
+                "fixture-pressure",
+                nonnegative=True,
             ),
             closing=valve.get("closing", ftype.closing),
             closure_time=self.q(
-                valve, vpath, "closure_time", "time", ftype.closure_time, nonnegative=True
+                valve,
+                vpath,
+                "closure_time",
+                "time",
+                ftype.closure_time,
+                "closure-time",
+                nonnegative=True,
             ),
             continuous=bool(item.get("continuous", False)),
             pos=self.doc.where(path),
@@ -273,15 +326,25 @@ class _Builder:
             rating_class,
             capacity,
             item.get("kind", "sealed"),
-            self.reader.quantity(item, path, "gas_volume", "volume", None, positive=True),
-            self.reader.quantity(item, path, "precharge", "pressure", None, nonnegative=True),
+            self.reader.quantity(
+                item, path, "gas_volume", "volume", None, bound="gas-volume", positive=True
+            ),
+            self.reader.quantity(
+                item,
+                path,
+                "precharge",
+                "pressure",
+                None,
+                bound="fixture-pressure",
+                nonnegative=True,
+            ),
             self.doc.where(path),
         )
 
     def device(self, path: tuple, item: dict[str, Any]) -> Device:
         on = self.ref(path, "on", item, ("pipes",))
         set_pressure = self.reader.quantity(
-            item, path, "set_pressure", "pressure", None, nonnegative=True
+            item, path, "set_pressure", "pressure", None, bound="set-pressure", nonnegative=True
         )
         if item["kind"] == "pressure-reducing" and "set_pressure" not in item:
             self.problems.add(
@@ -289,7 +352,7 @@ class _Builder:
                 "a pressure-reducing device needs 'set_pressure'",
                 "add e.g. 'set_pressure: 60 psi'",
             )
-        loss = self.q(item, path, "loss", "pressure", 0.0, nonnegative=True)
+        loss = self.q(item, path, "loss", "pressure", 0.0, "pressure-loss", nonnegative=True)
         return Device(item["id"], item["kind"], on, set_pressure, loss, self.doc.where(path))
 
     def waiver(self, path: tuple, item: dict[str, Any]) -> Waiver:

@@ -99,10 +99,12 @@ def _table(
 
 def read_fixture_type(reader: Reader, entry: dict[str, Any], path: JsonPath) -> FixtureType | None:
     q = reader.quantity
-    flow = q(entry, path, "flow", "flow", positive=True)
-    min_pressure = q(entry, path, "min_pressure", "pressure", nonnegative=True)
+    flow = q(entry, path, "flow", "flow", positive=True, bound="fixture-flow")
+    min_pressure = q(
+        entry, path, "min_pressure", "pressure", nonnegative=True, bound="fixture-pressure"
+    )
     valve = entry.get("valve", {})
-    closure = q(valve, (*path, "valve"), "closure_time", "time", 1.0, nonnegative=True)
+    closure = q(valve, (*path, "valve"), "closure_time", "time", 1.0, bound="closure-time")
     if flow is None or min_pressure is None or closure is None:
         return None
     wsfu = entry["wsfu"]

@@ -34,6 +34,8 @@ from rulecheck.engine import Settings
 from rulecheck.errors import NO_POSITION, InputError, Position, ProblemCollector
 from rulecheck.files import MAX_CONFIG_BYTES, is_regular_file, read_text
 from rulecheck.findings import SEVERITIES
+from rulecheck.plausible import LIMIT_BOUND
+from rulecheck.plausible import problem as implausible
 from rulecheck.profiles import profile_ids
 from rulecheck.rulebook import RuleSpec, rule_specs
 from rulecheck.suggest import suggest
@@ -294,13 +296,17 @@ def _limits(spec: RuleSpec, table: Any, key: KeyPath, problem: Any) -> dict[str,
         try:
             if not isinstance(value, str) or _is_number(value):
                 raise QuantityError(f"needs a {kind} with its unit, got {value!r}")
-            to_si(value, kind, "si")
+            si = to_si(value, kind, "si")
         except QuantityError as exc:
             problem(
                 where,
                 f"limit '{name}' of {spec.id}: {exc}",
                 exc.hint or f'write e.g. {name} = "{known[name]}"',
             )
+            continue
+        why = implausible(LIMIT_BOUND[kind], si, value)
+        if why is not None:
+            problem(where, f"limit '{name}' of {spec.id}: {why[0]}", why[1])
             continue
         result[name] = value
     return result

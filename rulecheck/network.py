@@ -75,6 +75,8 @@ def build_network(layout: Layout) -> Network:
     is_root = {svc: set(roots[svc]) for svc in SERVICES}  # a tower has hundreds of roots
     pipes = layout.pipes
 
+    feeders: dict[str, dict[str, list[int]]] = {svc: {} for svc in SERVICES}
+    explained: dict[str, set[str]] = {svc: set() for svc in SERVICES}  # causes already told
     for index, pipe in enumerate(pipes):
         if pipe.start == pipe.end:
             problems.add(
@@ -85,32 +87,40 @@ def build_network(layout: Layout) -> Network:
             continue
         if pipe.service not in SERVICES:
             continue
-        tree = trees[pipe.service]
-        if pipe.end in tree.parent:
-            other = pipes[tree.parent[pipe.end]]
-            problems.add(
-                pipe.pos,
-                f"point {pipe.end} is fed by two {pipe.service} pipes, "
-                f"{other.id} (line {other.pos.line}) and {pipe.id}",
-                "each point has one feeding pipe; mark recirculation 'hot-return'",
-            )
-            continue
         if pipe.end in is_root[pipe.service]:
             problems.add(
                 pipe.pos,
                 f"{pipe.service} pipe {pipe.id} runs into {pipe.end}, "
                 f"which is a source of the {pipe.service} service",
-                "check the direction: 'from' is the end nearer the source",
+                f"'from' is the upstream end, nearer the source: "
+                f"write {pipe.id} as 'from: {pipe.end}, to: {pipe.start}'",
             )
+            explained[pipe.service].add(pipe.start)
             continue
-        tree.parent[pipe.end] = index
-        children[pipe.service].setdefault(pipe.start, []).append(index)
+        feeders[pipe.service].setdefault(pipe.end, []).append(index)
+
+    for svc, by_end in feeders.items():
+        tree = trees[svc]
+        second: list[tuple[str, int]] = []
+        for end, indices in by_end.items():
+            # Of several pipes into one point, keep one that is itself fed from upstream.
+            keep = next(
+                (i for i in indices if pipes[i].start in is_root[svc] or pipes[i].start in by_end),
+                indices[0],
+            )
+            tree.parent[end] = keep
+            children[svc].setdefault(pipes[keep].start, []).append(keep)
+            second.extend((end, i) for i in indices if i != keep)
+        for end, index in second:
+            _report_second_feed(
+                tree, pipes, end, index, is_root[svc], by_end, explained[svc], problems
+            )
 
     for svc, tree in trees.items():
         _walk(tree, children[svc], pipes)
-        _report_unreached(tree, pipes, layout, problems)
+        _report_unreached(tree, pipes, layout, problems, explained[svc])
     _check_services_meet_properly(trees, layout, problems)
-    _check_heaters_and_fixtures(trees, layout, problems)
+    _check_heaters_and_fixtures(trees, layout, problems, explained["cold"] | explained["hot"])
     problems.raise_if_any()
     return Network(layout, pipes, elevation, trees, heaters)
 
@@ -130,27 +140,88 @@ def _walk(tree: Tree, children: dict[str, list[int]], pipes: list[Pipe]) -> None
             queue.append(child)
 
 
-def _report_unreached(
-    tree: Tree, pipes: list[Pipe], layout: Layout, problems: ProblemCollector
+def _report_second_feed(
+    tree: Tree,
+    pipes: list[Pipe],
+    end: str,
+    index: int,
+    roots: set[str],
+    by_end: dict[str, list[int]],
+    explained: set[str],
+    problems: ProblemCollector,
 ) -> None:
+    """A second pipe into ``end``: drawn backwards (its start is fed by nothing), or a loop
+    or second feed of the service."""
+    pipe, first = pipes[index], pipes[tree.parent[end]]
+    svc = tree.service
+    if pipe.start not in roots and pipe.start not in by_end:
+        explained.add(pipe.start)  # what hangs from its start is this one mistake
+        problems.add(
+            pipe.pos,
+            f"{svc} pipe {pipe.id} runs from {pipe.start} into {end}, which {first.id} "
+            f"(line {first.pos.line}) already feeds; nothing feeds {pipe.start}, so {pipe.id} "
+            "looks drawn against the flow",
+            f"'from' is the upstream end, nearer the source: "
+            f"write {pipe.id} as 'from: {end}, to: {pipe.start}'",
+        )
+        return
+    loop: list[str] = []
+    node = pipe.start
+    while node in tree.parent and node != end and len(loop) <= len(pipes):
+        loop.append(pipes[tree.parent[node]].id)
+        node = pipes[tree.parent[node]].start
+    closes = (
+        f"; {' → '.join([*reversed(loop), pipe.id])} close a loop back to {end}"
+        if node == end
+        else ""
+    )
+    hint = (
+        "each point has one feeding pipe; mark a recirculation pipe 'hot-return'"
+        if svc == "hot"
+        else "each point has one feeding pipe and cold water may not loop: remove one of "
+        "them, or check that its 'from' is the upstream end"
+    )
+    problems.add(
+        pipe.pos,
+        f"point {end} is fed by two {svc} pipes, {first.id} (line {first.pos.line}) "
+        f"and {pipe.id}{closes}",
+        hint,
+    )
+
+
+def _report_unreached(
+    tree: Tree, pipes: list[Pipe], layout: Layout, problems: ProblemCollector, explained: set[str]
+) -> None:
+    """One problem per cause: a loop, or the top of a chain no source feeds; the points
+    below a cause already reported (``explained``) are its echoes and get none."""
     reported_loops: set[str] = set()
     unreached = [(node, index) for node, index in tree.parent.items() if node not in tree.root_of]
+    by_top: dict[str, list[int]] = {}
     for node, index in sorted(unreached, key=lambda kv: kv[1]):
         pipe = pipes[index]
         loop = _find_loop(node, tree, pipes)
+        explained.add(node)
         if loop:
             key = min(loop)
             if key not in reported_loops:
                 reported_loops.add(key)
+                hint = (
+                    "a supply network must be a tree; mark a recirculation pipe 'hot-return'"
+                    if tree.service == "hot"
+                    else "cold water may not loop, and no source feeds these pipes: connect one "
+                    "point to a supply, and check that each 'from' is the upstream end"
+                )
                 problems.add(
-                    pipe.pos,
-                    f"the {tree.service} pipes {' → '.join(loop)} form a loop",
-                    "a supply network must be a tree; mark recirculation 'hot-return'",
+                    pipe.pos, f"the {tree.service} pipes {' → '.join(loop)} form a loop", hint
                 )
             continue
         top = pipe.start
         while top in tree.parent:
             top = pipes[tree.parent[top]].start
+        if top not in explained:
+            by_top.setdefault(top, []).append(index)
+    for top, indices in by_top.items():
+        pipe = pipes[min(indices, key=lambda i: (pipes[i].start != top, i))]
         if tree.service == "hot":
             if top in {s.id for s in layout.supplies} or top in tree.root_of:
                 msg = f"hot pipe {pipe.id} is fed from {top}, which is not a heater outlet"
@@ -165,7 +236,8 @@ def _report_unreached(
             problems.add(
                 pipe.pos,
                 f"cold pipe {pipe.id} hangs from {top}, which no supply feeds",
-                "connect it to a supply, or fix 'from'/'to'",
+                "connect it to a supply, or swap 'from' and 'to' if it is drawn backwards: "
+                "'from' is the upstream end",
             )
 
 
@@ -202,11 +274,13 @@ def _check_services_meet_properly(
 
 
 def _check_heaters_and_fixtures(
-    trees: dict[str, Tree], layout: Layout, problems: ProblemCollector
+    trees: dict[str, Tree], layout: Layout, problems: ProblemCollector, explained: set[str]
 ) -> None:
+    """Heater inlets and fixture sides on the right network; one on a point whose trouble
+    is already reported (``explained``) would only echo it."""
     cold, hot = trees["cold"].root_of, trees["hot"].root_of
     for heater in layout.heaters:
-        if heater.inlet not in cold:
+        if heater.inlet not in cold and heater.inlet not in explained:
             problems.add(
                 heater.pos,
                 f"heater {heater.id} inlet {heater.inlet} is not on the cold network",
@@ -214,7 +288,7 @@ def _check_heaters_and_fixtures(
             )
     for fixture in layout.fixtures:
         for side, point, members in (("cold", fixture.cold, cold), ("hot", fixture.hot, hot)):
-            if point is not None and point not in members:
+            if point is not None and point not in members and point not in explained:
                 where = (
                     "the hot network"
                     if point in hot

@@ -6,7 +6,9 @@ from typing import Any
 
 from rulecheck.errors import ProblemCollector
 from rulecheck.loader import Document, JsonPath
-from rulecheck.units import QuantityError, to_si
+from rulecheck.plausible import ambiguous_bare_time
+from rulecheck.plausible import problem as implausible
+from rulecheck.units import BARE_UNIT, QuantityError, to_si
 
 
 class Reader:
@@ -31,11 +33,33 @@ class Reader:
         *,
         positive: bool = False,
         nonnegative: bool = False,
+        bound: str | None = None,
     ) -> float | None:
+        """The SI value of ``node[key]`` (``default`` when absent), or ``None`` after a problem.
+
+        ``bound`` names a row of :data:`rulecheck.plausible.BOUNDS` the value must lie in.
+        """
         if key not in node:
             return default
+        value = node[key]
+        if bound == "closure-time" and ambiguous_bare_time(value):
+            self.problems.add(
+                self.doc.where((*path, key)),
+                f"'{key}: {value}' has no unit, and a valve closes in milliseconds or "
+                f"seconds: {value} ms and {value} s are both possible",
+                f"write the unit, e.g. '{key}: {value} ms' for a solenoid or quick valve, "
+                f"or '{key}: {value} s'",
+            )
+            return None
         try:
-            return to_si(node[key], kind, self.system, positive=positive, nonnegative=nonnegative)
+            si = to_si(value, kind, self.system, positive=positive, nonnegative=nonnegative)
         except QuantityError as exc:
             self.problems.add(self.doc.where((*path, key)), f"'{key}': {exc}", exc.hint)
             return None
+        if bound is not None:
+            shown = value if isinstance(value, str) else f"{value} {BARE_UNIT[self.system][kind]}"
+            why = implausible(bound, si, shown)
+            if why is not None:
+                self.problems.add(self.doc.where((*path, key)), f"'{key}': {why[0]}", why[1])
+                return None
+        return si

@@ -64,8 +64,15 @@ _EXAMPLE = {
 # Beyond this in SI units no layout value makes sense (the largest real ones are wall
 # moduli, ~1e11 Pa); it also keeps the hydraulics clear of float overflow [D].
 _ABSURD = 1e15
-_UNIT_TEXT = re.compile(r"^[A-Za-z°µ_][A-Za-z0-9°µ_ /*^.()-]*$")
+# A quantity is a number and a unit, nothing more. The unit is one name or two joined by
+# '/', each name perhaps raised to a small whole power: "ft", "ft/s", "L/min", "lbf/in^2",
+# "m³/s", "degF", "°C", "ftH2O". Anything else (operators, numbers inside the unit,
+# brackets, powers of powers) is refused here, before pint sees it: pint evaluates what it
+# is given, and "ft*9^9^9" would run for ever [D].
+_UNIT_NAME = r"[A-Za-z°µμ][A-Za-z0-9_]{0,23}(?:(?:\^|\*\*)[1-4]|[²³])?"
+_UNIT_TEXT = re.compile(rf"^{_UNIT_NAME}(?: ?/ ?{_UNIT_NAME})?$")
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+_MAX_TEXT = 80  # characters: "0.0000125 m³/s" is 14; a longer text is not a quantity
 
 
 class QuantityError(ValueError):
@@ -74,6 +81,14 @@ class QuantityError(ValueError):
     def __init__(self, message: str, hint: str = "") -> None:
         super().__init__(message)
         self.hint = hint
+
+
+def _accepted(kind: str) -> str:
+    """How a quantity of ``kind`` is written, with an example of that kind first."""
+    return (
+        f"a {kind} as a number and a unit, such as '{_EXAMPLE[kind]}': "
+        "one unit name, or two joined by '/' as in 'ft/s'"
+    )
 
 
 @cache
@@ -127,17 +142,23 @@ def to_si(
     if isinstance(value, bool) or not isinstance(value, (int, float, str)):
         raise QuantityError(f"expected a {kind}", f"write e.g. '{_EXAMPLE[kind]}'")
     if isinstance(value, str):
-        match = _NUMBER.match(value)
+        match = _NUMBER.match(value) if len(value) <= _MAX_TEXT else None
         if not match:
-            raise QuantityError(f"'{value}' is not a {kind}", f"write e.g. '{_EXAMPLE[kind]}'")
+            shown = value if len(value) <= _MAX_TEXT else value[:_MAX_TEXT] + "…"
+            raise QuantityError(f"'{shown}' is not a {kind}", f"write {_accepted(kind)}")
         number = float(match.group(1))
         unit_text = match.group(2) or BARE_UNIT[system][kind]
-        if not _UNIT_TEXT.match(unit_text):  # pint would quietly skip stray punctuation
+        if not _UNIT_TEXT.match(unit_text):  # no arithmetic reaches pint, nor stray punctuation
             raise QuantityError(
-                f"unknown unit '{unit_text}'", f"write a {kind} such as '{_EXAMPLE[kind]}'"
+                f"unknown unit '{unit_text}': a quantity is a number and a plain unit, "
+                "no arithmetic, brackets or numbers in the unit",
+                f"write {_accepted(kind)}",
             )
     else:
-        number = float(value)
+        try:
+            number = float(value)
+        except OverflowError:  # an integer beyond the float range
+            number = math.inf
         unit_text = BARE_UNIT[system][kind]
     if not math.isfinite(number):
         raise QuantityError(f"{kind} must be a finite number", f"write e.g. '{_EXAMPLE[kind]}'")
