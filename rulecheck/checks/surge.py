@@ -88,8 +88,8 @@ def closure_time(ctx: RuleContext) -> Iterator[Finding]:
         else:
             safe = _safe_closure(e)
             outcome = (
-                f"{rise}; closing in {safe} or longer keeps the peak under "
-                f"{ctx.fmt(limit, 'pressure')}"
+                f"{rise}; closing in {safe} or longer keeps the peak under the "
+                f"{ctx.fmt(limit, 'pressure')} limit"
             )
             fix = f"a valve closing in {safe} or more, or " + _suggestion(ctx, e)
         yield ctx.finding(
