@@ -23,7 +23,7 @@ from rulecheck.errors import EXIT_FINDINGS, EXIT_INPUT, EXIT_OK, InputError
 from rulecheck.findings import SEVERITY_RANK, Finding
 from rulecheck.profiles import default_profile_id, profile_ids
 from rulecheck.report import CAUTION
-from rulecheck.report.explain import explain_text, rules_table
+from rulecheck.report.explain import rules_table
 from rulecheck.report.json_report import analysis_document, check_document, dumps
 from rulecheck.report.text import render_check
 from rulecheck.rulebook import rule_specs
@@ -260,11 +260,9 @@ def cmd_explain(args: argparse.Namespace) -> int:
         raise UsageError(
             f"rulecheck explain: unknown rule '{args.rule}' (known: {', '.join(rule_specs())})"
         )
-    from rulecheck.report.worked import worked_example
+    from rulecheck.explain_cmd import explain
 
-    sys.stdout.write(
-        explain_text(spec, args.profile, args.units, worked_example(spec.id, args.units))
-    )
+    sys.stdout.write(explain(spec, args.profile, args.units))
     return EXIT_OK
 
 
