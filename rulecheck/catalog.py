@@ -48,6 +48,7 @@ def read_material(reader: Reader, entry: dict[str, Any], path: JsonPath) -> Mate
     ratings = _table(reader, entry, path, "pressure_rating", "pressure")
     moduli = _table(reader, entry, path, "modulus_vs_temperature", "modulus")
     sizes: dict[str, tuple[float, float]] = {}
+    size_ratings: dict[str, tuple[tuple[float, float], ...]] = {}
     ok = True
     for label, dims in entry.get("sizes", {}).items():
         spath = (*path, "sizes", label)
@@ -61,6 +62,12 @@ def read_material(reader: Reader, entry: dict[str, Any], path: JsonPath) -> Mate
             ok = False
             continue
         sizes[size_label(label)] = (od, wall)
+        if "pressure_rating" in dims:
+            own = _table(reader, dims, spath, "pressure_rating", "pressure")
+            if own is None:
+                ok = False
+            else:
+                size_ratings[size_label(label)] = own
     if modulus is None or roughness is None or ratings is None or moduli is None or not ok:
         return None
     return Material(
@@ -74,6 +81,7 @@ def read_material(reader: Reader, entry: dict[str, Any], path: JsonPath) -> Mate
         sizes=sizes,
         source=entry["source"],
         modulus_vs_temperature=moduli,
+        size_ratings=size_ratings,
     )
 
 

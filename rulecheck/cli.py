@@ -34,7 +34,7 @@ from rulecheck.findings import SEVERITY_RANK, Finding
 from rulecheck.outputs import LAYOUT_SUFFIXES, REPLACE_OPTION, OutputRefused, guard_outputs
 from rulecheck.profiles import default_profile_id, profile_ids
 from rulecheck.report import CAUTION
-from rulecheck.report.explain import explain_text, rules_table
+from rulecheck.report.explain import rules_table
 from rulecheck.report.json_report import analysis_document, check_document, dumps
 from rulecheck.report.text import render_check
 from rulecheck.rulebook import rule_specs
@@ -291,11 +291,9 @@ def cmd_explain(args: argparse.Namespace) -> int:
     if spec is None:
         hint = suggest(args.rule, rule_specs(), "`rulecheck rules`")
         raise UsageError(f"rulecheck explain: unknown rule '{args.rule}' ({hint})")
-    from rulecheck.report.worked import worked_example
+    from rulecheck.explain_cmd import explain
 
-    sys.stdout.write(
-        explain_text(spec, args.profile, args.units, worked_example(spec.id, args.units))
-    )
+    sys.stdout.write(explain(spec, args.profile, args.units))
     return EXIT_OK
 
 

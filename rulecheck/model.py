@@ -24,10 +24,14 @@ class Material:
     sizes: dict[str, tuple[float, float]]  # label -> (outside diameter [m], wall [m])
     source: str
     modulus_vs_temperature: tuple[tuple[float, float], ...] = ()  # (temperature [K], E [Pa])
+    # a size's own rating table where the rating differs by size (copper tube)
+    size_ratings: dict[str, tuple[tuple[float, float], ...]] = field(default_factory=dict)
 
-    def rating_at(self, temperature: float) -> float:
-        """Allowable working pressure [Pa] at ``temperature`` [K], linear, clamped at the ends."""
-        return _interp(temperature, self.pressure_rating)
+    def rating_at(self, temperature: float, size: str | None = None) -> float:
+        """Allowable working pressure [Pa] at ``temperature`` [K] of ``size`` (its own table
+        where it has one, else the material's), linear, clamped at the ends."""
+        table = self.size_ratings.get(size, self.pressure_rating) if size else self.pressure_rating
+        return _interp(temperature, table)
 
     def modulus_at(self, temperature: float) -> float:
         """Wall modulus [Pa] at ``temperature`` [K] where tabled, else the nominal modulus."""
@@ -115,6 +119,10 @@ class Pipe:
     @property
     def area(self) -> float:
         return math.pi * self.inner_diameter**2 / 4.0
+
+    def rating_at(self, temperature: float) -> float:
+        """Allowable working pressure [Pa] of this pipe's material and size at ``temperature``."""
+        return self.material.rating_at(temperature, self.size)
 
 
 @dataclass(frozen=True)

@@ -21,6 +21,7 @@ from rulecheck.physics.surge import (
     STANDARD_ATMOSPHERE,
     column_separates,
     critical_time,
+    joukowsky,
     min_safe_closure_time,
     screening_minimum,
     surge_pressure,
@@ -47,10 +48,13 @@ class ValveEvent:
     peak: float  # as credited (capped at the design limit when protected) [Pa]
     min_pressure: float  # max(static min − surge, vapour pressure − p_atm), gauge [Pa]
     min_safe_closure: float  # closure time keeping the peak at the design limit [s]
-    lowest_rating: float  # lowest allowable pressure of a pipe on the path [Pa]
-    lowest_rating_pipe: str
     protected_by: str | None
     column_separation: bool  # unprotected minimum reaches vapour pressure
+    joukowsky: float = 0.0  # screening ρ·a₁·Δv₁ [Pa]; kept when a simulation replaces surge
+    surge_formula: str = "joukowsky"  # screening formula of ``surge``: joukowsky | slow-closure
+    # peak pressure per pipe id [Pa gauge]: screening, the valve's surge on every path pipe
+    # (pipe_peaks_on_path); a simulation, each simulated pipe's own envelope maximum
+    pipe_peaks: dict[str, float] = field(default_factory=dict)
     method: str = "screening"
     nearby_air_chambers: list[str] = field(default_factory=list)
     # where a simulated column separated away from the valve ("at X" / "in pipe P");
@@ -67,6 +71,41 @@ class SurgeAnalysis:
         tuple[str, str], list[tuple[float, str]]
     ]  # (point, service) -> (dist, arrester)
     side_index: dict[str, tuple] = field(default_factory=dict)  # memo for wsfu_within
+    # allowable pressure of each pipe (by id), its material and size at its service
+    # temperature [Pa]
+    pipe_rating: dict[str, float] = field(default_factory=dict)
+
+
+def pipe_ratings(analysis: Analysis) -> dict[str, float]:
+    """Allowable working pressure of every pipe at its own service temperature [Pa]."""
+    layout = analysis.layout
+    return {p.id: p.rating_at(layout.temperature(p.service)) for p in layout.pipes}
+
+
+def pipe_peaks_on_path(
+    analysis: Analysis, path: list[int], surge: float, cap: float | None
+) -> dict[str, float]:
+    """Screening peak in each pipe of a valve's path [Pa gauge].
+
+    Each pipe gets the higher static maximum of its two ends plus the full surge at the
+    valve, capped at ``cap`` (the design limit, when an arrester protects the valve) [D].
+    Conservative: the wave is taken not to weaken where it passes into a larger pipe or a
+    junction (a transmission factor below one there), nor by friction.
+    """
+    layout, static = analysis.layout, analysis.static_max
+    peaks = {}
+    for k in path:
+        pipe = layout.pipes[k]
+        peak = max(static[pipe.start], static[pipe.end]) + surge
+        peaks[pipe.id] = min(peak, cap) if cap is not None else peak
+    return peaks
+
+
+def pipes_over_rating(event: ValveEvent, ratings: dict[str, float]) -> list[tuple[str, float]]:
+    """The pipes whose own peak exceeds their own rating: (pipe id, peak), the largest
+    ratio of peak to rating first (then by id, for a stable order)."""
+    over = [(pid, peak) for pid, peak in event.pipe_peaks.items() if peak > ratings[pid]]
+    return sorted(over, key=lambda item: (-item[1] / ratings[item[0]], item[0]))
 
 
 def pipe_wave_speeds(analysis: Analysis) -> np.ndarray:
@@ -148,7 +187,7 @@ def screen_surges(analysis: Analysis) -> SurgeAnalysis:
             event = _screen_one(analysis, speeds, fixture, side, point, protector)
             event.nearby_air_chambers = [a for _, a in nearby if arresters[a].kind != "sealed"]
             events.append(event)
-    return SurgeAnalysis(speeds, events, served, reach)
+    return SurgeAnalysis(speeds, events, served, reach, pipe_rating=pipe_ratings(analysis))
 
 
 def _screen_one(
@@ -174,9 +213,8 @@ def _screen_one(
     # static min − surge; below the vapour pressure it is not a pressure: the column
     # separates and the water stays at p_v (engineering-basis §7)
     drawn_down = smin - surge
-    temperature = layout.temperature(side)
-    ratings = [(p.material.rating_at(temperature), p.id) for p in pipes]
-    lowest, lowest_pipe = min(ratings) if ratings else (np.inf, "")
+    rise = float(joukowsky(water.density, a[0], dv[0])) if path else 0.0
+    cap = profile.surge_limit if protector else None
     return ValveEvent(
         fixture=fixture,
         side=side,
@@ -197,9 +235,10 @@ def _screen_one(
             if path
             else 0.0
         ),
-        lowest_rating=float(lowest),
-        lowest_rating_pipe=lowest_pipe,
         protected_by=protector,
+        joukowsky=rise,
+        surge_formula="joukowsky" if surge >= rise * (1 - 1e-12) else "slow-closure",
+        pipe_peaks=pipe_peaks_on_path(analysis, path, surge, cap),
         column_separation=protector is None
         and column_separates(drawn_down, water.vapour_pressure, STANDARD_ATMOSPHERE),
     )

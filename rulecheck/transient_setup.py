@@ -25,7 +25,7 @@ import os
 from collections import Counter
 from collections.abc import Callable
 from concurrent.futures import ProcessPoolExecutor
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from rulecheck.analysis import Analysis, G
 from rulecheck.physics.demand import demand_flow
@@ -66,6 +66,7 @@ class EventRun:
     sized_arresters: dict[str, float]  # arrester id -> equivalent gas volume [m³] we sized
     unstopped_arresters: list[str]  # no precharge given: a gas volume without a piston stop
     cavities: list[Cavity]  # in the order they formed
+    pipe_max: dict[str, float] = field(default_factory=dict)  # every simulated pipe [Pa gauge]
 
 
 def equivalent_gas_volume(
@@ -295,6 +296,9 @@ def read_back(analysis: Analysis, setup: EventSetup, result: TransientResult) ->
         model.sized_arresters,
         model.unstopped_arresters,
         cavities,
+        pipe_max={
+            pid: float(result.pipe_max_pressure[i]) + shift for i, pid in enumerate(model.pipe_ids)
+        },
     )
 
 
@@ -324,13 +328,14 @@ BATCH_EVENTS = 64
 #: the 10 s budget of a 500-fixture building.
 WHOLE_TREE_PIPES = 60
 
-METHOD_WHOLE = "transient (whole service tree)"
-METHOD_PATH = "transient (path model)"
+METHOD_WHOLE = "simulation, whole service tree"
+METHOD_PATH = "simulation, path model"
 
 _WORK: Analysis | None = None  # the analysis a forked worker process reads
 
 
-Outcome = tuple[float, float, bool, str | None]  # peak, minimum, cavitation, cavity away
+# peak, minimum, cavitation, cavity away, peak per simulated pipe
+Outcome = tuple[float, float, bool, str | None, dict[str, float]]
 
 
 def _cavity_away(run: EventRun) -> str | None:
@@ -359,6 +364,7 @@ def _run_batch(batch: list[tuple[int, bool]]) -> list[Outcome]:
             run.minimum,
             bool(run.result.cavitation),
             _cavity_away(run),
+            run.pipe_max,
         )
         for run in runs
     ]
@@ -419,7 +425,7 @@ def apply_transient(
         for (i, whole), out in zip(batch, outs, strict=True)
     }
     for index in todo:
-        whole, (peak, minimum, cavitation, cavity_at) = found[index]
+        whole, (peak, minimum, cavitation, cavity_at, pipe_max) = found[index]
         event = analysis.surge.events[index]
         if not math.isfinite(peak):
             raise RuntimeError(f"transient run for {event.fixture.id} diverged")
@@ -429,3 +435,4 @@ def apply_transient(
         event.min_pressure = minimum
         event.column_separation = cavitation
         event.cavity_at = cavity_at
+        event.pipe_peaks = pipe_max

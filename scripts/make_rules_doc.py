@@ -16,6 +16,7 @@ import argparse
 import sys
 from pathlib import Path
 
+from rulecheck.explain_cmd import fill_snippet
 from rulecheck.profiles import get_profile, profile_ids
 from rulecheck.report import CAUTION
 from rulecheck.report.explain import (
@@ -105,7 +106,7 @@ def rule_section(spec: RuleSpec) -> list[str]:
                 f"### A {key} layout snippet",
                 "",
                 "```yaml",
-                spec.examples[key].rstrip(),
+                fill_snippet(spec.examples[key], "both").rstrip(),
                 "```",
                 "",
             ]

@@ -140,7 +140,8 @@ def test_sdr_wall(material_id: str, sdr: int, min_wall: float) -> None:
 
 # --- pressure ratings against the thin-wall formula ----------------------------------------
 
-# Annealed copper allowable stress, CDA Copper Tube Handbook [M]; psi by degF.
+# Annealed copper allowable stress by degF, psi [S: CDA Copper Tube Handbook Table 3c header,
+# copper.org: S = 6000, 5100, 4900, 4800 psi at 100, 150, 200, 250 degF].
 COPPER_ANNEALED_STRESS_PSI = {100: 6000.0, 150: 5100.0, 200: 4900.0, 250: 4800.0}
 
 
@@ -160,6 +161,80 @@ def test_copper_rating_not_above_any_size(material_id: str) -> None:
         for label, size in material["sizes"].items():
             d, t = inches(size["outside_diameter"]), inches(size["wall"])
             assert rating <= 2 * stress * t / (d - 0.8 * t), f"{material_id} {label} {temp_f} degF"
+
+
+# ASTM B280 type K and type L tube (the same outside diameters and walls as ASTM B88 K and
+# L), maximum pressure at 150 degF, psi, by nominal size [S: "Pressure Rating of Copper
+# Pipes and Tubes", high-purity gas delivery systems data sheet (scribd 513937758)].
+VENDOR_150F_PSI = {
+    "copper-k": {
+        "1/4": 913, "3/8": 960, "1/2": 758, "5/8": 626, "3/4": 724, "1": 557, "1-1/4": 452,
+        "1-1/2": 420, "2": 370, "2-1/2": 338, "3": 328, "3-1/2": 311, "4": 306,
+    },
+    "copper-l": {
+        "1/4": 775, "3/8": 662, "1/2": 613, "5/8": 537, "3/4": 495, "1": 420, "1-1/4": 373,
+        "1-1/2": 347, "2": 309, "2-1/2": 285, "3": 270, "3-1/2": 258, "4": 249,
+    },
+}  # fmt: skip
+
+
+def _size_rows(material_id: str) -> dict[str, dict[int, float]]:
+    return {
+        label: {
+            round(q(row["temperature"]).to("degF").magnitude): q(row["pressure"])
+            .to("psi")
+            .magnitude
+            for row in size["pressure_rating"]
+        }
+        for label, size in MATERIALS[material_id]["sizes"].items()
+    }
+
+
+@pytest.mark.parametrize("material_id", ["copper-k", "copper-l", "copper-m"])
+def test_copper_size_ratings_follow_each_size_wall(material_id: str) -> None:
+    """Each size's own rating against ASME B31.1 / Barlow P = 2 S t / (D - 0.8 t) with that
+    size's nominal wall and the handbook's annealed S: at most the nominal-wall value, and
+    at least 85 % of it (the tables use the minimum wall, about 10 % under nominal [M]).
+    One rating for every size (the 4-in row) would fall far below that band at 1/2 in."""
+    for label, rows in _size_rows(material_id).items():
+        size = MATERIALS[material_id]["sizes"][label]
+        d, t = inches(size["outside_diameter"]), inches(size["wall"])
+        assert set(rows) == set(COPPER_ANNEALED_STRESS_PSI), label
+        for temp_f, rating in rows.items():
+            bound = 2 * COPPER_ANNEALED_STRESS_PSI[temp_f] * t / (d - 0.8 * t)
+            assert 0.85 * bound <= rating <= bound, f"{material_id} {label} {temp_f} degF"
+
+
+@pytest.mark.parametrize("material_id", sorted(VENDOR_150F_PSI))
+def test_copper_150F_ratings_match_a_vendor_table(material_id: str) -> None:
+    """The 150 degF rows (100 degF value x 5100/6000 [D]) against a vendor's table that
+    prints the same tube sizes at 150 degF, within 1.5 psi (both round to whole psi)."""
+    rows = _size_rows(material_id)
+    assert set(rows) == set(VENDOR_150F_PSI[material_id])
+    for label, expected in VENDOR_150F_PSI[material_id].items():
+        assert rows[label][150] == pytest.approx(expected, abs=1.5), label
+
+
+@pytest.mark.parametrize("material_id", ["copper-k", "copper-l", "copper-m"])
+def test_copper_material_rating_is_the_lowest_size_row(material_id: str) -> None:
+    rows = _size_rows(material_id)
+    for row in MATERIALS[material_id]["pressure_rating"]:
+        temp_f = round(q(row["temperature"]).to("degF").magnitude)
+        lowest = min(r[temp_f] for r in rows.values())
+        assert q(row["pressure"]).to("psi").magnitude == pytest.approx(lowest), temp_f
+
+
+def test_pipe_rating_is_its_own_size_row() -> None:
+    """rulecheck reads the size's row: type L 1/2 in at 140 degF interpolates 722 and 614 psi
+    (the 100 and 150 degF rows) to 636 psi, not the 4-in row's 258 psi."""
+    from rulecheck.catalog import builtin_catalog
+
+    material = builtin_catalog().materials["copper-l"]
+    psi = q("1 psi").to("Pa").magnitude
+    at_140f = UREG.Quantity(140, "degF").to("K").magnitude
+    assert material.rating_at(at_140f, "1/2") / psi == pytest.approx(722 + (614 - 722) * 0.8)
+    assert material.rating_at(at_140f, "4") / psi == pytest.approx(293 + (249 - 293) * 0.8)
+    assert material.rating_at(at_140f) == material.rating_at(at_140f, "4")
 
 
 def test_steel_rating_not_above_any_size() -> None:

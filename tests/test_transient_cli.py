@@ -115,7 +115,7 @@ def test_check_transient_says_which_method_gave_the_number(
     assert main(["check", str(path), "--transient", "--format", "json"]) == 1
     findings = json.loads(capsys.readouterr().out)["files"][0]["findings"]
     surge = [f for f in findings if f["rule"] in ("surge-peak", "column-separation")]
-    assert surge and all(f["method"].startswith("transient") for f in surge)
+    assert surge and all(f["method"].startswith("simulation, ") for f in surge)
     assert main(["check", str(path), "--format", "json"]) == 1
     findings = json.loads(capsys.readouterr().out)["files"][0]["findings"]
     assert all(
@@ -148,7 +148,7 @@ def test_column_separation_away_from_the_valve_is_placed_and_measured_at_vapour(
 
     analysis = analyse_file(CASES / "surge-peak" / "fail.yaml")
     event = analysis.surge.events[0]
-    event.column_separation, event.method = True, "transient (whole service tree)"
+    event.column_separation, event.method = True, "simulation, whole service tree"
     event.min_pressure, event.cavity_at = 20 * PSI, "in pipe P2"
     found = [f for f in run_rules(analysis) if f.rule == "column-separation"]
     assert len(found) == 1

@@ -8,7 +8,12 @@ from rulecheck.engine import RuleContext
 from rulecheck.findings import Finding
 from rulecheck.physics.surge import STANDARD_ATMOSPHERE
 from rulecheck.profiles import aa_appliances, smallest_class_for
-from rulecheck.surge_analysis import ValveEvent, arrester_capacity_ok, wsfu_within
+from rulecheck.surge_analysis import (
+    ValveEvent,
+    arrester_capacity_ok,
+    pipes_over_rating,
+    wsfu_within,
+)
 
 
 def _events(ctx: RuleContext) -> list[ValveEvent]:
@@ -16,10 +21,33 @@ def _events(ctx: RuleContext) -> list[ValveEvent]:
     return surge.events if surge is not None else []
 
 
+#: The screening formula behind a surge, as a label names it. "Joukowsky" labels ρ·a·Δv only.
+FORMULA = {"joukowsky": "Joukowsky ρ·a·Δv", "slow-closure": "slow-closure 2ρ·ΣL·Δv/t"}
+
+
+def method_label(e: ValveEvent, base: str = "") -> str:
+    """Where a surge figure of ``e`` comes from: the screening formula (with ``base``, the
+    static pressure it is added to or taken from) or the simulation that replaced it."""
+    if e.method != "screening":
+        return e.method  # "simulation, whole service tree" | "simulation, path model"
+    return f"screening, {base}{FORMULA[e.surge_formula]}"
+
+
+def _peak_label(e: ValveEvent) -> str:
+    if e.method == "screening" and e.protected_by and e.peak < e.unprotected_peak:
+        return f"screening, arrester {e.protected_by} credited with the design limit"
+    return method_label(e, "static max + ")
+
+
+def _fig(ctx: RuleContext, value: float, kind: str, label: str) -> str:
+    """One figure with the one method label it comes from."""
+    return f"{ctx.fmt(value, kind)} ({label})"
+
+
 def _valve(ctx: RuleContext, e: ValveEvent) -> str:
     return (
         f"{e.fixture.id} ({e.fixture.type.id}, {e.side}) closes in "
-        f"{_ms(e.closure_time)}, critical time {_ms(e.critical_time)}"
+        f"{_ms(e.closure_time)}, critical time Σ2L/a = {_ms(e.critical_time)}"
     )
 
 
@@ -37,26 +65,33 @@ def _suggestion(ctx: RuleContext, e: ValveEvent) -> str:
     )
 
 
+def _safe_closure(e: ValveEvent) -> str:
+    """The shortest closure that keeps the peak at the limit, with where it comes from: the
+    screening formula solved for t (a simulation does not give it), or T_c when longer."""
+    if e.min_safe_closure >= e.critical_time:
+        return f"{_ms(e.min_safe_closure)} (screening, slow-closure 2ρ·ΣL·Δv/t solved for t)"
+    return f"{_ms(e.critical_time)} (critical time Σ2L/a)"
+
+
 def closure_time(ctx: RuleContext) -> Iterator[Finding]:
     limit = ctx.analysis.profile.surge_limit
     for e in _events(ctx):
         if e.protected_by or e.closure_time > e.critical_time:
             continue
+        rise = (
+            f"surge {_fig(ctx, e.surge, 'pressure', method_label(e))}, peak "
+            f"{_fig(ctx, e.unprotected_peak, 'pressure', method_label(e, 'static max + '))}"
+        )
         if e.unprotected_peak <= limit:
-            outcome = (
-                f"the full Joukowsky surge {ctx.fmt(e.surge, 'pressure')} arrives "
-                f"(peak {ctx.fmt(e.unprotected_peak, 'pressure')}, under the "
-                f"{ctx.fmt(limit, 'pressure')} limit)"
-            )
+            outcome = f"{rise}, under the {ctx.fmt(limit, 'pressure')} limit"
             fix = "an arrester still softens the shock: " + _suggestion(ctx, e)
         else:
-            safe = max(e.min_safe_closure, e.critical_time)
+            safe = _safe_closure(e)
             outcome = (
-                f"the full Joukowsky surge {ctx.fmt(e.surge, 'pressure')} arrives; "
-                f"closing in {_ms(safe)} or longer keeps the peak under "
-                f"{ctx.fmt(limit, 'pressure')}"
+                f"{rise}; closing in {safe} or longer keeps the peak under the "
+                f"{ctx.fmt(limit, 'pressure')} limit"
             )
-            fix = f"a valve closing in {_ms(safe)} or more, or " + _suggestion(ctx, e)
+            fix = f"a valve closing in {safe} or more, or " + _suggestion(ctx, e)
         yield ctx.finding(
             e.fixture.id,
             f"valve {_valve(ctx, e)}: a quick closure; {outcome}",
@@ -70,15 +105,26 @@ def closure_time(ctx: RuleContext) -> Iterator[Finding]:
 
 def surge_peak(ctx: RuleContext) -> Iterator[Finding]:
     limit = ctx.analysis.profile.surge_limit
+    surge = ctx.analysis.surge
+    ratings = surge.pipe_rating if surge is not None else {}
+    pipes = {p.id: p for p in ctx.analysis.layout.pipes}
     for e in _events(ctx):
-        if e.peak > e.lowest_rating:
+        over = pipes_over_rating(e, ratings)
+        if over:
+            pid, peak = over[0]
+            pipe = pipes[pid]
+            more = (
+                f"; also over their own ratings: pipe {', '.join(p for p, _ in over[1:])}"
+                if len(over) > 1
+                else ""
+            )
             yield ctx.finding(
                 e.fixture.id,
-                f"valve {_valve(ctx, e)}: surge {ctx.fmt(e.surge, 'pressure')}, peak "
-                f"{ctx.fmt(e.peak, 'pressure')} over the {ctx.fmt(e.lowest_rating, 'pressure')} "
-                f"rating of pipe {e.lowest_rating_pipe} at its temperature ({e.method})",
-                measured=e.peak,
-                limit=e.lowest_rating,
+                f"valve {_valve(ctx, e)}: peak {_fig(ctx, peak, 'pressure', _peak_label(e))} "
+                f"in pipe {pid} ({pipe.material.id} {pipe.size}) over its "
+                f"{ctx.fmt(ratings[pid], 'pressure')} rating at its temperature{more}",
+                measured=peak,
+                limit=ratings[pid],
                 kind="pressure",
                 severity="hazard",
                 method=e.method,
@@ -87,9 +133,9 @@ def surge_peak(ctx: RuleContext) -> Iterator[Finding]:
         elif (e.protected_by is None or e.method != "screening") and e.peak > limit:
             yield ctx.finding(
                 e.fixture.id,
-                f"valve {_valve(ctx, e)}: surge {ctx.fmt(e.surge, 'pressure')}, peak "
-                f"{ctx.fmt(e.peak, 'pressure')} over the {ctx.fmt(limit, 'pressure')} limit "
-                f"({e.method}), "
+                f"valve {_valve(ctx, e)}: surge {_fig(ctx, e.surge, 'pressure', method_label(e))}"
+                f", peak {_fig(ctx, e.peak, 'pressure', _peak_label(e))} over the "
+                f"{ctx.fmt(limit, 'pressure')} limit, "
                 + (
                     f"with arrester {e.protected_by}"
                     if e.protected_by
@@ -110,23 +156,24 @@ def column_separation(ctx: RuleContext) -> Iterator[Finding]:
             continue
         water = ctx.analysis.water_for(e.side)
         vapour_gauge = water.vapour_pressure - STANDARD_ATMOSPHERE
+        minimum = _fig(ctx, e.min_pressure, "pressure", method_label(e, "static min − "))
         if e.cavity_at is None:
             where = (
-                f"the pressure wave drops {e.point} to {ctx.fmt(e.min_pressure, 'pressure')} "
-                f"(gauge, {e.method}), down to vapour pressure"
+                f"the pressure wave drops {e.point} to {minimum.replace(' (', ' gauge (', 1)}, "
+                "down to vapour pressure"
             )
             measured = e.min_pressure
         else:  # the simulation found the first cavity away from the valve
             where = (
                 f"the pressure wave drops the water {e.cavity_at} to vapour pressure "
-                f"({e.method}; {e.point} itself falls to "
-                f"{ctx.fmt(e.min_pressure, 'pressure')} gauge)"
+                f"({e.method}); {e.point} itself falls to "
+                f"{minimum.replace(' (', ' gauge (', 1)}"
             )
             measured = vapour_gauge
         yield ctx.finding(
             e.fixture.id,
             f"valve {_valve(ctx, e)}: {where}: the column separates and its collapse can "
-            "exceed the Joukowsky peak",
+            "send a peak above the first surge",
             measured=measured,
             limit=vapour_gauge,
             kind="pressure",
@@ -147,9 +194,10 @@ def arrester_required(ctx: RuleContext) -> Iterator[Finding]:
         )
         yield ctx.finding(
             e.fixture.id,
-            f"quick-closing valve {_valve(ctx, e)}: surge {ctx.fmt(e.surge, 'pressure')}, peak "
-            f"{ctx.fmt(e.unprotected_peak, 'pressure')}, no sealed arrester within "
-            f"{ctx.fmt(reach, 'length')}{chambers}",
+            f"quick-closing valve {_valve(ctx, e)}: surge "
+            f"{_fig(ctx, e.surge, 'pressure', method_label(e))}, peak "
+            f"{_fig(ctx, e.unprotected_peak, 'pressure', method_label(e, 'static max + '))}, "
+            f"no sealed arrester within {ctx.fmt(reach, 'length')}{chambers}",
             measured=e.unprotected_peak,
             limit=ctx.analysis.profile.surge_limit,
             kind="pressure",

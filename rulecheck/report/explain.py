@@ -71,7 +71,16 @@ def rules_table() -> str:
     return "\n".join(lines) + "\n"
 
 
-def explain_text(spec: RuleSpec, profile: str, units: str, worked: str = "") -> str:
+def explain_text(
+    spec: RuleSpec,
+    profile: str,
+    units: str,
+    worked: str = "",
+    snippets: dict[str, str] | None = None,
+) -> str:
+    """Format one rule's explanation; ``worked`` and the filled ``snippets`` (the rule's
+    example snippets with their catalog references resolved) come from rulecheck.explain_cmd."""
+    snippets = spec.examples if snippets is None else snippets
     out = [
         f"{spec.id} — {spec.title}",
         f"default severity: {spec.severity}",
@@ -122,8 +131,8 @@ def explain_text(spec: RuleSpec, profile: str, units: str, worked: str = "") -> 
         "",
     ]
     for key in ("failing", "passing"):
-        if key in spec.examples:
-            out += [f"A {key} layout snippet:", _indent(spec.examples[key].rstrip()), ""]
+        if key in snippets:
+            out += [f"A {key} layout snippet:", _indent(snippets[key].rstrip()), ""]
     return "\n".join(out)
 
 
