@@ -284,8 +284,10 @@ def main(argv: list[str] | None = None) -> int:
         if args.command == "simulate":
             from rulecheck.simulate_cmd import run_simulate
 
-            if args.duration is not None and not args.duration > 0:
-                raise UsageError("rulecheck simulate: --duration must be a positive number")
+            if args.duration is not None and not 0 < args.duration < float("inf"):
+                raise UsageError(
+                    "rulecheck simulate: --duration must be a positive, finite number of seconds"
+                )
             return run_simulate(args, console)
         if args.command == "rules":
             sys.stdout.write(rules_table())
