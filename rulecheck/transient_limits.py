@@ -36,13 +36,15 @@ from rulecheck.physics.surge import column_period
 from rulecheck.physics.transient_grid import STANDARD_GRAVITY, steady_node_heads
 from rulecheck.physics.transient_network import TransientNetwork
 
-#: Time steps of one run [D: 70 times the longest sample run (1,526 steps); about 5 s
-#: of the step loop on a 2-core machine].
-MAX_STEPS = 100_000
+#: Time steps of one run [D: 13 times the longest sample run (1,526 steps); the step
+#: loop costs 0.1–0.4 ms a step on a shared 2-core machine (measured 2026-12-02), so
+#: a run at the bound takes 2–8 s].
+MAX_STEPS = 20_000
 #: Computational sections of one network [D: 100 times the largest sample (196)].
 MAX_SECTIONS = 20_000
-#: Sections × steps of one run [D: about 2 s of the vectorised update].
-MAX_SECTION_STEPS = 200_000_000
+#: Sections × steps of one run [D: 100 times the clinic's longest run (196 × 2,405);
+#: the vectorised update's share of a step grows with the sections].
+MAX_SECTION_STEPS = 50_000_000
 #: Recorded histories of one stacked run [bytes] [D].
 MAX_TRACE_BYTES = 64 * 2**20
 #: Floats recorded per step for each network and for each arrester [D: the solver's
@@ -95,16 +97,37 @@ def bounds_for(
     reaches = np.maximum(1.0, np.rint(x))
     sections = float(reaches.sum() + reaches.size)
     if not math.isfinite(sections) or sections > MAX_SECTIONS:
-        longest = int(np.argmax(x))
         raise RunRefused(
             f"its run would need {sections:.3g} computational sections, over the "
-            f"{MAX_SECTIONS:,} bound: pipe {pipe_ids[longest]} is {x[longest]:.3g} time "
-            "steps long, the step being set by the shortest pipe and the closure",
-            pipe_ids[longest],
+            f"{MAX_SECTIONS:,} bound: {_spread(travel_times, pipe_ids)}",
+            pipe_ids[int(np.argmin(x))],
         )
     per_step = 8 * (FLOATS_PER_NETWORK_STEP + FLOATS_PER_ARRESTER_STEP * arresters)
     steps = min(MAX_STEPS, MAX_SECTION_STEPS // int(sections), MAX_TRACE_BYTES // per_step)
     return RunBounds(int(sections), int(steps))
+
+
+def check_spread(travel_times: Sequence[float], pipe_ids: Sequence[str]) -> None:
+    """RunRefused when the longest pipe's wave travel time [s] is more than
+    ``MAX_SECTIONS`` times the shortest's (every pipe has at least one reach, so the
+    longest alone would then pass the bound), before a time step is searched for."""
+    tt = np.asarray(travel_times, dtype=float)
+    if not float(tt.max()) <= MAX_SECTIONS * float(tt.min()):
+        raise RunRefused(
+            f"its run would need more computational sections than the {MAX_SECTIONS:,} bound: "
+            + _spread(travel_times, pipe_ids),
+            pipe_ids[int(np.argmin(tt))],
+        )
+
+
+def _spread(travel_times: Sequence[float], pipe_ids: Sequence[str]) -> str:
+    tt = np.asarray(travel_times, dtype=float)
+    short, long = int(np.argmin(tt)), int(np.argmax(tt))
+    return (
+        f"the time step follows pipe {pipe_ids[short]}, whose wave crosses it in "
+        f"{tt[short]:.3g} s, and pipe {pipe_ids[long]} takes {tt[long]:.3g} s; "
+        "merge or lengthen the short pipe"
+    )
 
 
 def stack_bytes(steps: int, networks: int, arresters: int) -> int:

@@ -51,6 +51,7 @@ from rulecheck.transient_limits import (
     RunRefused,
     arrester_periods,
     bounds_for,
+    check_spread,
     extreme_on_last_step,
     run_length,
     shortest_run,
@@ -316,6 +317,7 @@ class EventSetup:
     duration: float  # [s]
     bounds: RunBounds
     asked: bool = False  # the duration was given (``simulate --duration``), not chosen
+    whole_tree: bool = True  # the whole service tree (else the path model)
     notes: list[str] = field(default_factory=list)
 
     @property
@@ -342,6 +344,7 @@ def prepare_event(
     if not all(math.isfinite(t) and t > 0 for t in travel):
         raise RunRefused("a pipe's wave travel time is not a positive finite number")
     heads = check_start(model, event, analysis.layout.units)
+    check_spread(travel, model.pipe_ids)
     wanted = min(min(travel), resolution_step(event))
     # the solver's own search, with the wanted step as one more travel time: dt stays at or
     # under it (within the search's few percent) and no pipe's wave speed moves more than that
@@ -374,6 +377,7 @@ def prepare_event(
         setup = EventSetup(event, model, dt, min(wanted_length, longest), bounds)
         if wanted_length > longest:
             setup.notes.append(f"run cut at the {bounds.max_steps:,}-step bound")
+    setup.whole_tree = whole_tree
     if model.left_out:
         setup.notes.append(
             f"{len(model.left_out)} point(s) the supply cannot fill left out: "
@@ -495,6 +499,7 @@ class Outcome:
     cavity_at: str | None = None  # where the column first separated, away from the valve
     notes: tuple[str, ...] = ()  # bounds the run met
     refused: str | None = None  # not simulated: why (screening kept)
+    whole: bool = True  # the whole service tree was simulated (else the path model)
 
 
 def _cavity_away(run: EventRun) -> str | None:
@@ -528,10 +533,16 @@ def _run_batch(batch: list[tuple[int, bool]]) -> list[Outcome]:
     outcomes: list[Outcome] = [Outcome(refused="not run")] * len(batch)
     setups = []
     for j, (i, whole) in enumerate(batch):
+        event = analysis.surge.events[i]
         try:
-            setups.append((j, prepare_event(analysis, analysis.surge.events[i], None, whole)))
+            setups.append((j, prepare_event(analysis, event, None, whole)))
         except RunRefused as refusal:
             outcomes[j] = Outcome(refused=refusal.reason)
+            if whole:  # a pipe off the valve's path may be what passed a bound
+                try:
+                    setups.append((j, prepare_event(analysis, event, None, False)))
+                except RunRefused as again:
+                    outcomes[j] = Outcome(refused=again.reason)
     for stack in _stacks(setups):
         results = simulate_many(
             [s.network for _, s in stack], [s.duration for _, s in stack], [s.dt for _, s in stack]
@@ -548,6 +559,7 @@ def _run_batch(batch: list[tuple[int, bool]]) -> list[Outcome]:
                 bool(run.result.cavitation),
                 _cavity_away(run),
                 tuple(run.notes),
+                whole=setup.whole_tree,
             )
     return outcomes
 
@@ -622,17 +634,17 @@ def apply_transient(
     finally:
         _WORK = None
     found = {
-        i: (whole, out)
+        i: out
         for batch, outs in zip(batches, outcomes, strict=True)
-        for (i, whole), out in zip(batch, outs, strict=True)
+        for (i, _), out in zip(batch, outs, strict=True)
     }
     for index in wanted:
         event = analysis.surge.events[index]
-        whole, out = found[first[_same_run(event)]]
+        out = found[first[_same_run(event)]]
         if out.refused is not None:
             event.method = f"{METHOD_NOT_SIMULATED}: {out.refused}"
             continue
-        method = METHOD_WHOLE if whole else METHOD_PATH
+        method = METHOD_WHOLE if out.whole else METHOD_PATH
         if out.notes:
             method = method[:-1] + "; " + "; ".join(out.notes) + ")"
         event.method = method
