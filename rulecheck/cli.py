@@ -102,7 +102,8 @@ def build_parser() -> argparse.ArgumentParser:
         "--duration",
         type=float,
         metavar="S",
-        help="simulated time in seconds (default: closure + 10 round trips)",
+        help="simulated time in seconds (default: closure + the longer of 10 round trips and "
+        "one arrester-column period, run on while an extreme is on the last step)",
     )
     simulate.add_argument("--format", choices=("text", "json", "csv"), default="text")
     simulate.add_argument("--profile", choices=profile_ids())
