@@ -67,8 +67,15 @@ def run_simulate(args: argparse.Namespace, console: Console) -> int:
         if "p" in bar:
             bar["p"].update(bar["task"], completed=fraction)
 
+    model = f"whole {event.side} tree"
     try:
-        run = run_event(analysis, event, args.duration, progress)
+        try:
+            run = run_event(analysis, event, args.duration, progress)
+        except RunRefused as whole:
+            # a pipe off the valve's path may be what passed a bound: the path model
+            run = run_event(analysis, event, args.duration, progress, whole_tree=False)
+            model = "path model"
+            run.notes.insert(0, f"the whole tree was not simulated: {whole.reason}")
     except RunRefused as refusal:
         raise InputError.at(
             analysis.layout.path,
@@ -83,7 +90,7 @@ def run_simulate(args: argparse.Namespace, console: Console) -> int:
     if args.format == "json":
         from rulecheck.report.json_report import dumps
 
-        sys.stdout.write(dumps(_document(run)))
+        sys.stdout.write(dumps({**_document(run), "model": model}))
     elif args.format == "csv":
         out = io.StringIO()
         writer = csv.writer(out, lineterminator="\n")
@@ -95,7 +102,7 @@ def run_simulate(args: argparse.Namespace, console: Console) -> int:
     else:
         lines = [
             f"valve {event.fixture.id} ({event.side}) at {event.point}, closes in "
-            f"{event.closure_time * 1000:.0f} ms; whole {event.side} tree simulated, "
+            f"{event.closure_time * 1000:.0f} ms; {model} simulated, "
             f"dt {result.dt * 1000:.3f} ms, largest wave-speed adjustment "
             f"{result.max_wave_speed_adjustment * 100:.2f} %",
             f"peak {fmt(run.peak, 'pressure', units)} at t = {result.time_of_peak * 1000:.1f} ms "

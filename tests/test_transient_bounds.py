@@ -263,3 +263,20 @@ def test_stacks_split_by_trace_memory_give_the_same_numbers(
         assert a.method == b.method
         assert a.peak == pytest.approx(b.peak, rel=1e-9, abs=1e-6)
         assert a.min_pressure == pytest.approx(b.min_pressure, rel=1e-9, abs=1e-6)
+
+
+def test_simulate_falls_back_to_the_path_model_when_a_branch_passes_a_bound(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    """A 0.001 ft kitchen pipe makes the whole hot tree too fine to run; the laundry
+    valve's own path does not hold it, so its path model runs and the output says so."""
+    path = _mutant(tmp_path, HOUSE, KITCHEN, "size: 3/4, length: 0.001 ft")
+    assert main(["simulate", str(path), "--valve", "CW1:hot", "--format", "json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["model"] == "path model"
+    assert data["notes"][0].startswith("the whole tree was not simulated")
+    assert data["peak_pressure"] > 0
+    analysis = analyse_file(path)
+    apply_transient(analysis, workers=1)
+    laundry = next(e for e in analysis.surge.events if e.fixture.id == "CW1" and e.side == "hot")
+    assert laundry.method.startswith("transient (path model")
