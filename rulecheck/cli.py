@@ -125,7 +125,8 @@ def build_parser() -> argparse.ArgumentParser:
         "--duration",
         type=float,
         metavar="S",
-        help="simulated time in seconds (default: closure + 10 round trips)",
+        help="simulated time in seconds (default: closure + the longer of 10 round trips and "
+        "one arrester-column period, run on while an extreme is on the last step)",
     )
     simulate.add_argument("--format", choices=("text", "json", "csv"), default="text")
     simulate.add_argument("--profile", choices=profile_ids())
@@ -341,8 +342,10 @@ def _run(argv: list[str]) -> int:
         if args.command == "simulate":
             from rulecheck.simulate_cmd import run_simulate
 
-            if args.duration is not None and not args.duration > 0:
-                raise UsageError("rulecheck simulate: --duration must be a positive number")
+            if args.duration is not None and not 0 < args.duration < float("inf"):
+                raise UsageError(
+                    "rulecheck simulate: --duration must be a positive, finite number of seconds"
+                )
             return run_simulate(args, console)
         if args.command == "rules":
             sys.stdout.write(rules_table())

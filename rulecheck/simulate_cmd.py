@@ -43,10 +43,20 @@ def _pick_event(analysis: Any, spec: str) -> Any:
 
 def run_simulate(args: argparse.Namespace, console: Console) -> int:
     from rulecheck.pipeline import analyse_file
+    from rulecheck.transient_limits import RunRefused
     from rulecheck.transient_setup import run_event
 
     analysis = analyse_file(args.path, args.profile)
     event = _pick_event(analysis, args.valve)
+    if args.duration is not None and args.duration < event.closure_time:
+        raise InputError.at(
+            analysis.layout.path,
+            event.fixture.pos,
+            f"--duration {args.duration:g} s is shorter than the closure of {event.fixture.id} "
+            f"({event.closure_time:g} s): the run would end before the valve has closed",
+            f"give --duration {event.closure_time:g} or more, or leave it out to let the "
+            "run length follow the system's round trips and arrester oscillation",
+        )
     started = time.monotonic()
     bar: dict[str, Any] = {}
 
@@ -58,8 +68,22 @@ def run_simulate(args: argparse.Namespace, console: Console) -> int:
         if "p" in bar:
             bar["p"].update(bar["task"], completed=fraction)
 
+    model = f"whole {event.side} tree"
     try:
-        run = run_event(analysis, event, args.duration, progress)
+        try:
+            run = run_event(analysis, event, args.duration, progress)
+        except RunRefused as whole:
+            # a pipe off the valve's path may be what passed a bound: the path model
+            run = run_event(analysis, event, args.duration, progress, whole_tree=False)
+            model = "path model"
+            run.notes.insert(0, f"the whole tree was not simulated: {whole.reason}")
+    except RunRefused as refusal:
+        raise InputError.at(
+            analysis.layout.path,
+            _position(analysis, refusal.element, event),
+            f"valve {event.fixture.id} ({event.side}) not simulated: {refusal.reason}",
+            refusal.hint or "its screening numbers are in the report of rulecheck check",
+        ) from None
     finally:
         if "p" in bar:
             bar["p"].stop()
@@ -67,7 +91,7 @@ def run_simulate(args: argparse.Namespace, console: Console) -> int:
     if args.format == "json":
         from rulecheck.report.json_report import dumps
 
-        sys.stdout.write(dumps(_document(run)))
+        sys.stdout.write(dumps({**_document(run), "model": model}))
     elif args.format == "csv":
         out = io.StringIO()
         writer = csv.writer(out, lineterminator="\n")
@@ -79,7 +103,7 @@ def run_simulate(args: argparse.Namespace, console: Console) -> int:
     else:
         lines = [
             f"valve {event.fixture.id} ({event.side}) at {event.point}, closes in "
-            f"{event.closure_time * 1000:.0f} ms; whole {event.side} tree simulated, "
+            f"{event.closure_time * 1000:.0f} ms; {model} simulated, "
             f"dt {result.dt * 1000:.3f} ms, largest wave-speed adjustment "
             f"{result.max_wave_speed_adjustment * 100:.2f} %",
             f"peak {fmt(run.peak, 'pressure', units)} at t = {result.time_of_peak * 1000:.1f} ms "
@@ -87,6 +111,7 @@ def run_simulate(args: argparse.Namespace, console: Console) -> int:
             f"{fmt(run.minimum, 'pressure', units)}",
             _cavities_line(run.cavities, units),
         ]
+        lines += [f"note: {note}" for note in run.notes]
         for arrester, volume in sorted(run.sized_arresters.items()):
             lines.append(
                 f"arrester {arrester}: no gas_volume given; an equivalent "
@@ -105,6 +130,18 @@ def run_simulate(args: argparse.Namespace, console: Console) -> int:
         ]
         console.print("\n".join(lines), soft_wrap=True, highlight=False, markup=False)
     return EXIT_OK
+
+
+def _position(analysis: Any, element: str | None, event: Any) -> Position:
+    """Where the layout writes ``element`` (a pipe, point, fixture or arrester id), else
+    the event's fixture."""
+    layout = analysis.layout
+    groups = (layout.pipes, layout.fixtures, layout.arresters, layout.points, layout.supplies)
+    for group in groups:
+        for item in group:
+            if item.id == element:
+                return item.pos  # type: ignore[no-any-return]
+    return event.fixture.pos  # type: ignore[no-any-return]
 
 
 #: Cavities named in the text report; the JSON lists them all.
@@ -137,6 +174,8 @@ def _document(run: Any) -> dict[str, Any]:
         "cavitation": bool(r.cavitation),
         "dt": _clean(float(r.dt)),
         "max_wave_speed_adjustment": _clean(float(r.max_wave_speed_adjustment)),
+        "duration": _clean(float(r.t[-1])),
+        "notes": list(run.notes),
         "sized_arresters": {k: _clean(v) for k, v in sorted(run.sized_arresters.items())},
         "arresters_without_precharge": sorted(run.unstopped_arresters),
         "cavities": [

@@ -27,6 +27,8 @@ from collections.abc import Callable
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, field
 
+import numpy as np
+
 from rulecheck.analysis import Analysis, G
 from rulecheck.physics.demand import demand_flow
 from rulecheck.physics.friction import friction_factor, reynolds_number
@@ -42,6 +44,21 @@ from rulecheck.physics.transient import (
 )
 from rulecheck.physics.transient_grid import choose_time_step
 from rulecheck.surge_analysis import ValveEvent
+from rulecheck.transient_limits import (
+    EXTENSIONS,
+    MAX_TRACE_BYTES,
+    RunBounds,
+    RunRefused,
+    arrester_periods,
+    bounds_for,
+    check_spread,
+    extreme_on_last_step,
+    run_length,
+    shortest_run,
+    stack_bytes,
+    start_heads,
+)
+from rulecheck.units import fmt
 
 
 @dataclass(frozen=True)
@@ -67,6 +84,7 @@ class EventRun:
     unstopped_arresters: list[str]  # no precharge given: a gas volume without a piston stop
     cavities: list[Cavity]  # in the order they formed
     pipe_max: dict[str, float] = field(default_factory=dict)  # every simulated pipe [Pa gauge]
+    notes: list[str] = field(default_factory=list)  # bounds the run met (plain words)
 
 
 def equivalent_gas_volume(
@@ -121,6 +139,7 @@ class EventModel:
     point_ids: list[str]  # layout point of each transient node
     sized_arresters: dict[str, float]  # arrester id -> equivalent gas volume [m³] we sized
     unstopped_arresters: list[str]  # no precharge given: a gas volume without a piston stop
+    left_out: list[str] = field(default_factory=list)  # points the supply cannot fill
 
 
 def build_event_network(
@@ -133,11 +152,27 @@ def build_event_network(
     tree = network.trees[event.side]
     root = tree.root_of[event.point]
     wanted = None if whole_tree else _path_nodes(analysis, event)
-    nodes = [
-        n for n in tree.order if tree.root_of.get(n) == root and (wanted is None or n in wanted)
-    ]
-    index = {n: i for i, n in enumerate(nodes)}
     water = analysis.water_for(event.side)
+
+    def filled(node: str) -> bool:  # the supply's minimum pressure holds water there
+        return analysis.static_min[node] + STANDARD_ATMOSPHERE > water.vapour_pressure
+
+    for node in [event.point, *(layout.pipes[k].start for k in event.path)]:
+        if not filled(node):
+            raise RunRefused(
+                f"the supply's minimum pressure does not fill point {node} on the valve's "
+                "path: its static pressure is at or below the vapour pressure",
+                node,
+            )
+    nodes, empty = [], set()  # points the supply cannot fill, and all beyond them
+    for n in tree.order:
+        if tree.root_of.get(n) != root or (wanted is not None and n not in wanted):
+            continue
+        if n != root and (layout.pipes[tree.parent[n]].start in empty or not filled(n)):
+            empty.add(n)
+            continue
+        nodes.append(n)
+    index = {n: i for i, n in enumerate(nodes)}
     on_path = set(event.path)
     pipes, ids = [], []
     for node in nodes[1:]:
@@ -181,12 +216,26 @@ def build_event_network(
         )
         volume = arrester.gas_volume
         if volume is None:
+            limit = analysis.profile.surge_limit + STANDARD_ATMOSPHERE
+            if not limit > p_static:
+                raise RunRefused(
+                    f"arrester {arrester.id} has no gas_volume and its static pressure is "
+                    "already at the surge limit, so no equivalent volume can be sized; "
+                    "give its gas_volume and precharge",
+                    arrester.id,
+                )
             volume = equivalent_gas_volume(
                 max(energy, class_energy(arrester.capacity)),
                 p_static,
-                analysis.profile.surge_limit + STANDARD_ATMOSPHERE,
+                limit,
                 analysis.profile.polytropic_exponent,
             )
+            if not (math.isfinite(volume) and volume > 0):
+                raise RunRefused(
+                    f"arrester {arrester.id}: no finite equivalent gas volume could be "
+                    "sized; give its gas_volume and precharge",
+                    arrester.id,
+                )
             sized[arrester.id] = volume
         if arrester.precharge is None:
             unstopped.append(arrester.id)
@@ -212,7 +261,7 @@ def build_event_network(
         vapour_pressure=water.vapour_pressure,
         atmospheric=STANDARD_ATMOSPHERE,
     )
-    return EventModel(net, ids, nodes, sized, unstopped)
+    return EventModel(net, ids, nodes, sized, unstopped, sorted(empty))
 
 
 # Time resolution asked of every run, besides whole reaches in each pipe [D]:
@@ -221,30 +270,64 @@ ROUND_TRIP_STEPS = 20  # steps over the path's round trip 2L/a
 
 
 def resolution_step(event: ValveEvent) -> float:
-    """The largest time step [s] that resolves the event's round trip and closure."""
-    step = max(event.critical_time, 1e-4) / ROUND_TRIP_STEPS
+    """The largest time step [s] that resolves the event's round trip and closure; a
+    closure shorter than a twentieth of the round trip is instantaneous at that step [D]."""
+    trip = max(event.critical_time, 1e-4)
+    step = trip / ROUND_TRIP_STEPS
     if event.closure_time > 0:
-        step = min(step, event.closure_time / CLOSURE_STEPS)
+        step = min(step, max(event.closure_time, trip / ROUND_TRIP_STEPS) / CLOSURE_STEPS)
     return step
 
 
 def default_duration(event: ValveEvent) -> float:
-    """Closure plus ten round trips of the path, at least 0.1 s [D]."""
-    return max(0.1, event.closure_time + 10 * max(event.critical_time, 1e-3))
+    """Closure plus ten round trips of the path, at least 0.1 s [D] (the arresters'
+    oscillation, which needs the network, is added by ``prepare_event``)."""
+    return run_length(event.closure_time, event.critical_time, ())
+
+
+def check_start(model: EventModel, event: ValveEvent, units: str) -> np.ndarray:
+    """The steady node heads [m] the solver starts from; RunRefused unless the valve
+    discharges at its design flow there (a fixture with no flow at design demand is a
+    residual-pressure finding, not a transient)."""
+    net = model.network
+    head = start_heads(net)
+    v = net.valve.node
+    if event.flow > 0 and not head[v] - net.elevation[v] > 0:
+        raise RunRefused(
+            f"fixture {event.fixture.id} gets no flow at design demand: the supply's minimum "
+            f"pressure cannot push its {fmt(event.flow, 'flow', units)} to {event.point} even "
+            "with no other fixture open, so there is no flowing column to stop",
+            event.fixture.id,
+        )
+    for gas in net.arresters:
+        if not net.density * G * (head[gas.node] - net.elevation[gas.node]) + net.atmospheric > 0:
+            raise RunRefused(
+                f"point {model.point_ids[gas.node]} starts below absolute zero at design flow",
+                model.point_ids[gas.node],
+            )
+    return head
 
 
 @dataclass
 class EventSetup:
-    """One valve event ready to run: its network, time step and duration."""
+    """One valve event ready to run: its network, time step, duration and bounds."""
 
     event: ValveEvent
     model: EventModel
     dt: float  # [s]
     duration: float  # [s]
+    bounds: RunBounds
+    asked: bool = False  # the duration was given (``simulate --duration``), not chosen
+    whole_tree: bool = True  # the whole service tree (else the path model)
+    notes: list[str] = field(default_factory=list)
 
     @property
     def network(self) -> TransientNetwork:
         return self.model.network
+
+    @property
+    def steps(self) -> int:
+        return int(self.bounds.steps(self.duration, self.dt))
 
 
 def prepare_event(
@@ -253,15 +336,56 @@ def prepare_event(
     duration: float | None = None,
     whole_tree: bool = True,
 ) -> EventSetup:
-    """The event's network with the time step its path and closure ask for."""
+    """The event's network with the time step its path and closure ask for, and a run
+    length within the bounds of ``transient_limits`` (RunRefused when the run cannot be
+    made within them, or the layout gives the solver no steady state to start from)."""
     model = build_event_network(analysis, event, whole_tree)
     net = model.network
-    wanted = min(min(p.length / p.wave_speed for p in net.pipes), resolution_step(event))
+    travel = [p.length / p.wave_speed for p in net.pipes]
+    if not all(math.isfinite(t) and t > 0 for t in travel):
+        raise RunRefused("a pipe's wave travel time is not a positive finite number")
+    heads = check_start(model, event, analysis.layout.units)
+    check_spread(travel, model.pipe_ids)
+    wanted = min(min(travel), resolution_step(event))
     # the solver's own search, with the wanted step as one more travel time: dt stays at or
     # under it (within the search's few percent) and no pipe's wave speed moves more than that
-    travel = [p.length / p.wave_speed for p in net.pipes]
     dt, _, _ = choose_time_step([*travel, wanted])
-    return EventSetup(event, model, dt, duration or default_duration(event))
+    bounds = bounds_for(travel, dt, len(net.arresters), model.pipe_ids)
+    longest = bounds.longest(dt)
+    if duration is not None:
+        if bounds.steps(duration, dt) > bounds.max_steps:
+            raise RunRefused(
+                f"a {duration:.6g} s run takes {bounds.steps(duration, dt):.3g} steps of "
+                f"{dt * 1000:.4g} ms, over the {bounds.max_steps:,}-step bound of this "
+                "network",
+                hint=f"give --duration {longest:.4g} or less",
+            )
+        setup = EventSetup(event, model, dt, duration, bounds, asked=True)
+    else:
+        shortest = shortest_run(event.closure_time, event.critical_time)
+        if shortest > longest:
+            short = min(range(len(travel)), key=lambda k: travel[k])
+            raise RunRefused(
+                f"its run would take {bounds.steps(shortest, dt):.3g} steps of "
+                f"{dt * 1e3:.3g} ms, over the {bounds.max_steps:,}-step bound: the step is "
+                f"set by pipe {model.pipe_ids[short]}, the shortest, and the closure of "
+                f"{event.closure_time:.3g} s",
+                model.pipe_ids[short],
+            )
+        wanted_length = run_length(
+            event.closure_time, event.critical_time, arrester_periods(net, heads)
+        )
+        setup = EventSetup(event, model, dt, min(wanted_length, longest), bounds)
+        if wanted_length > longest:
+            setup.notes.append(f"run cut at the {bounds.max_steps:,}-step bound")
+    setup.whole_tree = whole_tree
+    if model.left_out:
+        setup.notes.append(
+            f"{len(model.left_out)} point(s) the supply cannot fill left out: "
+            + ", ".join(model.left_out[:5])
+            + (", ..." if len(model.left_out) > 5 else "")
+        )
+    return setup
 
 
 def read_back(analysis: Analysis, setup: EventSetup, result: TransientResult) -> EventRun:
@@ -299,7 +423,39 @@ def read_back(analysis: Analysis, setup: EventSetup, result: TransientResult) ->
         pipe_max={
             pid: float(result.pipe_max_pressure[i]) + shift for i, pid in enumerate(model.pipe_ids)
         },
+        notes=list(setup.notes),
     )
+
+
+def run_on(
+    analysis: Analysis,
+    setup: EventSetup,
+    result: TransientResult,
+    progress: Callable[[float], None] | None = None,
+) -> EventRun:
+    """``result`` read back; run again, twice as long each time within the bounds, while
+    its maximum or minimum at the valve sits on the last step (a run too short to see it).
+    A duration that was asked for is kept, and a trailing extreme only noted."""
+    for _ in range(EXTENSIONS):
+        if setup.asked or not extreme_on_last_step(result.valve_pressure):
+            break
+        if setup.steps >= setup.bounds.max_steps:
+            break
+        setup.duration = min(2 * setup.duration, setup.bounds.longest(setup.dt))
+        result = simulate(setup.network, setup.duration, dt=setup.dt, progress=progress)
+    run = read_back(analysis, setup, result)
+    if extreme_on_last_step(result.valve_pressure):
+        run.notes.append(
+            "its extreme at the valve is on the last step"
+            + (
+                ", a longer --duration would show more"
+                if setup.asked
+                else f" of a run cut at the {setup.bounds.max_steps:,}-step bound"
+            )
+        )
+    if not (math.isfinite(run.peak) and math.isfinite(run.minimum)):
+        raise RunRefused("the run did not stay finite (friction dominates the time step)")
+    return run
 
 
 def run_event(
@@ -309,10 +465,11 @@ def run_event(
     progress: Callable[[float], None] | None = None,
     whole_tree: bool = True,
 ) -> EventRun:
-    """Simulate one valve event (``simulate``; the whole service tree by default)."""
+    """Simulate one valve event (``simulate``; the whole service tree by default).
+    RunRefused when it is not simulated (see ``prepare_event``)."""
     setup = prepare_event(analysis, event, duration, whole_tree)
     result = simulate(setup.network, setup.duration, dt=setup.dt, progress=progress)
-    return read_back(analysis, setup, result)
+    return run_on(analysis, setup, result, progress)
 
 
 #: Events run together in one stacked simulation by ``check --transient`` [D: tuned with
@@ -330,12 +487,24 @@ WHOLE_TREE_PIPES = 60
 
 METHOD_WHOLE = "simulation, whole service tree"
 METHOD_PATH = "simulation, path model"
+#: A valve ``check --transient`` did not simulate: its screening numbers stand [D].
+METHOD_NOT_SIMULATED = "screening, not simulated"
 
 _WORK: Analysis | None = None  # the analysis a forked worker process reads
 
 
-# peak, minimum, cavitation, cavity away, peak per simulated pipe
-Outcome = tuple[float, float, bool, str | None, dict[str, float]]
+@dataclass(frozen=True)
+class Outcome:
+    """What ``check --transient`` keeps of one event's run, or why it was not run."""
+
+    peak: float = math.nan  # [Pa gauge]
+    minimum: float = math.nan  # [Pa gauge]
+    cavitation: bool = False
+    cavity_at: str | None = None  # where the column first separated, away from the valve
+    notes: tuple[str, ...] = ()  # bounds the run met
+    refused: str | None = None  # not simulated: why (screening kept)
+    whole: bool = True  # the whole service tree was simulated (else the path model)
+    pipe_max: tuple[tuple[str, float], ...] = ()  # peak per simulated pipe [Pa gauge]
 
 
 def _cavity_away(run: EventRun) -> str | None:
@@ -347,27 +516,58 @@ def _cavity_away(run: EventRun) -> str | None:
     return f"at {first.point}" if first.point else f"in pipe {first.pipe}"
 
 
+def _stacks(setups: list[tuple[int, EventSetup]]) -> list[list[tuple[int, EventSetup]]]:
+    """Setups in stacked runs whose recorded histories stay within ``MAX_TRACE_BYTES``
+    (a stacked run records every member over its longest member's steps)."""
+    stacks: list[list[tuple[int, EventSetup]]] = []
+    for item in sorted(setups, key=lambda js: (-js[1].steps, js[0])):
+        if stacks:
+            top = [*stacks[-1], item]
+            arresters = sum(len(s.network.arresters) for _, s in top)
+            if stack_bytes(top[0][1].steps, len(top), arresters) <= MAX_TRACE_BYTES:
+                stacks[-1].append(item)
+                continue
+        stacks.append([item])
+    return stacks
+
+
 def _run_batch(batch: list[tuple[int, bool]]) -> list[Outcome]:
-    """Runs of some of ``_WORK``'s events (index, whole tree?), stacked into one simulation."""
+    """Runs of some of ``_WORK``'s events (index, whole tree?), stacked into simulations."""
     assert _WORK is not None
     analysis = _WORK
-    setups = [
-        prepare_event(analysis, analysis.surge.events[i], whole_tree=whole) for i, whole in batch
-    ]
-    results = simulate_many(
-        [s.network for s in setups], [s.duration for s in setups], [s.dt for s in setups]
-    )
-    runs = [read_back(analysis, s, r) for s, r in zip(setups, results, strict=True)]
-    return [
-        (
-            run.peak,
-            run.minimum,
-            bool(run.result.cavitation),
-            _cavity_away(run),
-            run.pipe_max,
+    outcomes: list[Outcome] = [Outcome(refused="not run")] * len(batch)
+    setups = []
+    for j, (i, whole) in enumerate(batch):
+        event = analysis.surge.events[i]
+        try:
+            setups.append((j, prepare_event(analysis, event, None, whole)))
+        except RunRefused as refusal:
+            outcomes[j] = Outcome(refused=refusal.reason)
+            if whole:  # a pipe off the valve's path may be what passed a bound
+                try:
+                    setups.append((j, prepare_event(analysis, event, None, False)))
+                except RunRefused as again:
+                    outcomes[j] = Outcome(refused=again.reason)
+    for stack in _stacks(setups):
+        results = simulate_many(
+            [s.network for _, s in stack], [s.duration for _, s in stack], [s.dt for _, s in stack]
         )
-        for run in runs
-    ]
+        for (j, setup), result in zip(stack, results, strict=True):
+            try:
+                run = run_on(analysis, setup, result)
+            except RunRefused as refusal:
+                outcomes[j] = Outcome(refused=refusal.reason)
+                continue
+            outcomes[j] = Outcome(
+                run.peak,
+                run.minimum,
+                bool(run.result.cavitation),
+                _cavity_away(run),
+                tuple(run.notes),
+                whole=setup.whole_tree,
+                pipe_max=tuple(sorted(run.pipe_max.items())),
+            )
+    return outcomes
 
 
 def _whole_tree(analysis: Analysis, todo: list[int]) -> dict[int, bool]:
@@ -396,6 +596,20 @@ def _batches(analysis: Analysis, todo: list[int]) -> list[list[tuple[int, bool]]
     return [ordered[j : j + BATCH_EVENTS] for j in range(0, len(ordered), BATCH_EVENTS)]
 
 
+def _same_run(event: ValveEvent) -> tuple:
+    """What decides an event's run: events that agree on it (several fixtures of one type
+    on one point) run once."""
+    return (
+        event.side,
+        event.point,
+        event.flow,
+        event.closure_time,
+        event.critical_time,
+        tuple(event.path),
+        event.protected_by,
+    )
+
+
 def apply_transient(
     analysis: Analysis, quick_only: bool = True, workers: int | None = None
 ) -> None:
@@ -403,10 +617,16 @@ def apply_transient(
 
     Events are independent: they run in stacked batches (one vectorised simulation each),
     and a large building spreads the batches over the machine's cores (forked workers).
+    Events that agree on everything their run depends on run once. An event that is not
+    simulated (``transient_limits``) keeps its screening numbers, and its method says why.
     Results are applied in event order.
     """
     global _WORK
-    todo = [i for i, e in enumerate(analysis.surge.events) if e.quick or not quick_only]
+    wanted = [i for i, e in enumerate(analysis.surge.events) if e.quick or not quick_only]
+    first: dict[tuple, int] = {}
+    for i in wanted:
+        first.setdefault(_same_run(analysis.surge.events[i]), i)
+    todo = sorted(first.values())
     batches = _batches(analysis, todo)
     workers = min(workers or os.cpu_count() or 1, 8, len(batches))
     _WORK = analysis
@@ -420,19 +640,23 @@ def apply_transient(
     finally:
         _WORK = None
     found = {
-        i: (whole, out)
+        i: out
         for batch, outs in zip(batches, outcomes, strict=True)
-        for (i, whole), out in zip(batch, outs, strict=True)
+        for (i, _), out in zip(batch, outs, strict=True)
     }
-    for index in todo:
-        whole, (peak, minimum, cavitation, cavity_at, pipe_max) = found[index]
+    for index in wanted:
         event = analysis.surge.events[index]
-        if not math.isfinite(peak):
-            raise RuntimeError(f"transient run for {event.fixture.id} diverged")
-        event.method = METHOD_WHOLE if whole else METHOD_PATH
-        event.unprotected_peak = event.peak = peak
-        event.surge = peak - event.static_max
-        event.min_pressure = minimum
-        event.column_separation = cavitation
-        event.cavity_at = cavity_at
-        event.pipe_peaks = pipe_max
+        out = found[first[_same_run(event)]]
+        if out.refused is not None:
+            event.method = f"{METHOD_NOT_SIMULATED}: {out.refused}"
+            continue
+        method = METHOD_WHOLE if out.whole else METHOD_PATH
+        if out.notes:
+            method = method + "; " + "; ".join(out.notes)
+        event.method = method
+        event.unprotected_peak = event.peak = out.peak
+        event.surge = out.peak - event.static_max
+        event.min_pressure = out.minimum
+        event.column_separation = out.cavitation
+        event.cavity_at = out.cavity_at
+        event.pipe_peaks = dict(out.pipe_max)

@@ -421,3 +421,68 @@ def allievi_peak_ratio(
         raise ValueError("static head and closure time must be positive")
     n = (length * velocity / (g * head * closure_time)) ** 2
     return float(n / 2.0 + math.sqrt(n + n * n / 4.0))
+
+
+def column_period(
+    density: float,
+    inertance: float,
+    gas_volume: float,
+    gas_pressure: float,
+    polytropic_exponent: float,
+) -> float:
+    """Period of a rigid water column oscillating on a sealed gas volume (small amplitude).
+
+    T = 2π·√(ρ·(L/A)·V/(n·p)),  for one pipe of length L and area A:
+    T = 2π·√(ρ·L·V/(n·p·A))
+
+    Parameters
+    ----------
+    density : float
+        Water density ρ [kg/m^3].
+    inertance : float
+        Σ L_i/A_i of the pipes from the gas volume to the constant-head root [1/m]
+        (L/A for one pipe).
+    gas_volume : float
+        Gas volume at rest V [m^3].
+    gas_pressure : float
+        Absolute gas pressure at rest p [Pa], > 0.
+    polytropic_exponent : float
+        Polytropic exponent n of the gas [-] (1.2 [CP: engineering-basis §10]).
+
+    Returns
+    -------
+    float
+        Oscillation period T [s].
+
+    Notes
+    -----
+    The column's mass ρ·L·A on the gas spring of stiffness n·p·A²/V (linearised
+    p·Vⁿ = const) gives ω² = n·p·A/(ρ·L·V); with several pipes in series the column's
+    kinetic energy is ½·ρ·Q²·Σ L_i/A_i, so L/A becomes Σ L_i/A_i [D]. Friction and the
+    pipe's elasticity are left out; a large swing is a little slower (the gas law is
+    stiffer in compression than in expansion) [D].
+
+    Examples
+    --------
+    ρ 1000 kg/m³, L 10 m, A 1e-4 m², V 1 L, p 300 kPa, n 1.2:
+    T = 2π·√(1000·1e5·1e-3/(1.2·3e5)) = 3.31 s [D]:
+
+    >>> print(f"{column_period(1000.0, 10.0 / 1e-4, 1e-3, 3e5, 1.2):.2f}")
+    3.31
+
+    References
+    ----------
+    1. engineering-basis §10: run length from the arrester–column oscillation period
+       [S: engineering-basis §10].
+    2. Wylie, E. B., Streeter, V. L. (1993). Fluid Transients in Systems, rigid water
+       column on an air chamber [M: from memory; verify against the adopted edition].
+    """
+    if not (density > 0 and inertance > 0 and gas_volume > 0 and gas_pressure > 0):
+        raise ValueError("density, inertance, gas volume and gas pressure must be positive")
+    if not polytropic_exponent > 0:
+        raise ValueError("the polytropic exponent must be positive")
+    return (
+        2.0
+        * math.pi
+        * math.sqrt(density * inertance * gas_volume / (polytropic_exponent * gas_pressure))
+    )
