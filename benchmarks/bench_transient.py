@@ -63,20 +63,21 @@ def quick_valves(path: Path) -> int:
 def sweep(path: Path, batches: list[int], repeat: int) -> None:
     """In-process time of the transient step alone for several batch sizes, 1 and 2 workers."""
     sys.path.insert(0, str(ROOT))
-    from rulecheck import transient_setup
+    from rulecheck.analysis import AnalysisOptions, transient_run
     from rulecheck.pipeline import analyse_file
 
-    print(f"\n{path.name}: simulation step only (apply_transient), best of {repeat}")
+    print(f"\n{path.name}: simulation step only (simulate_valves), best of {repeat}")
     print(f"{'events per run':>14} {'1 worker s':>11} {'2 workers s':>12}")
     for batch in batches:
-        transient_setup.BATCH_EVENTS = batch
+        transient_run.BATCH_EVENTS = batch
         row = []
         for workers in (1, 2):
             best = float("inf")
             for _ in range(repeat):
                 analysis = analyse_file(path)
+                options = AnalysisOptions(transient=True, workers=workers)
                 start = time.perf_counter()
-                transient_setup.apply_transient(analysis, workers=workers)
+                transient_run.simulate_valves(analysis, options)
                 best = min(best, time.perf_counter() - start)
             row.append(best)
         print(f"{batch:>14} {row[0]:>11.2f} {row[1]:>12.2f}")

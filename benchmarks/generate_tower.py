@@ -40,9 +40,9 @@ from pathlib import Path
 
 import numpy as np
 
-from rulecheck.catalog import builtin_catalog
+from rulecheck.input.catalog import builtin_catalog
+from rulecheck.input.rulebook import rule_specs
 from rulecheck.physics.demand import demand_flow
-from rulecheck.rulebook import rule_specs
 from rulecheck.units import to_si
 
 PROFILE = "ipc"

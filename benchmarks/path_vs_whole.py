@@ -8,7 +8,7 @@ and on the path model (the valve's path to its source plus the credited arrester
 reports the ratio of the peaks (path / whole), the events where the path model is more
 than 2 % low, the cavitation verdicts that differ, and what a whole-tree run costs in
 section-steps (reaches x time steps) against the path model. The numbers behind
-``transient_setup.WHOLE_TREE_PIPES``.
+``rulecheck.analysis.result.WHOLE_TREE_PIPES``.
 """
 
 from __future__ import annotations
@@ -27,10 +27,10 @@ sys.path.insert(0, str(ROOT))
 
 from generate_tower import generate  # noqa: E402
 
+from rulecheck.analysis.transient_model import EventSetup, prepare_event, read_back  # noqa: E402
 from rulecheck.physics.transient import simulate  # noqa: E402
 from rulecheck.physics.transient_grid import reaches_for_time_step  # noqa: E402
 from rulecheck.pipeline import analyse_file  # noqa: E402
-from rulecheck.transient_setup import EventSetup, prepare_event, read_back  # noqa: E402
 
 PSI = 6894.757  # Pa [S: NIST SP 811]
 

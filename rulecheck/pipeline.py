@@ -1,32 +1,31 @@
-"""One file through the whole pipeline: load → validate → build → network → analyse → rules."""
+"""One file through the whole pipeline: input → analysis → rules.
+
+``rulecheck.input.load_layout`` (read, validate, build) → ``rulecheck.analysis.analyse``
+(network, steady, screening, transient) → ``rulecheck.engine.run.run_rules`` (findings,
+waivers). The command line calls these two functions; reporters format what they return.
+"""
 
 from __future__ import annotations
 
 import gc
 from collections.abc import Iterator
 from contextlib import contextmanager
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from pathlib import Path
 
-from rulecheck.analysis import Analysis, analyse
-from rulecheck.build import build_layout
-from rulecheck.engine import Settings, run_rules
-from rulecheck.errors import ProblemCollector
+from rulecheck.analysis import Analysis, AnalysisOptions, analyse
+from rulecheck.engine.context import Settings
+from rulecheck.engine.run import run_rules
 from rulecheck.findings import Finding
-from rulecheck.loader import load_file
-from rulecheck.model import Layout
-from rulecheck.network import build_network
-from rulecheck.rulebook import rule_specs
-from rulecheck.schema import validate
-from rulecheck.surge_analysis import screen_surges
+from rulecheck.input import load_layout
 
 
-@dataclass
+@dataclass(frozen=True)
 class FileResult:
     path: str
     profile: str
-    findings: list[Finding] = field(default_factory=list)
-    analysis: Analysis | None = None
+    findings: list[Finding]
+    analysis: Analysis
 
 
 @contextmanager
@@ -48,39 +47,22 @@ def _collector_paused() -> Iterator[None]:
             gc.enable()
 
 
-def load_layout(path: str | Path, profile: str | None = None) -> Layout:
-    """Parse, validate and build one layout; raises InputError with every problem found."""
-    doc = load_file(path)
-    problems = ProblemCollector(doc.path)
-    validate(doc, problems)
-    problems.raise_if_any()
-    return build_layout(doc, set(rule_specs()), profile)
-
-
-def analyse_file(path: str | Path, profile: str | None = None) -> Analysis:
+def analyse_file(
+    path: str | Path, profile: str | None = None, options: AnalysisOptions | None = None
+) -> Analysis:
+    """The analysis of one layout file (``InputError`` for a bad file)."""
     with _collector_paused():
-        return _analyse(path, profile)
-
-
-def _analyse(path: str | Path, profile: str | None) -> Analysis:
-    layout = load_layout(path, profile)
-    analysis = analyse(layout, build_network(layout))
-    analysis.surge = screen_surges(analysis)
-    return analysis
+        return analyse(load_layout(path, profile), options)
 
 
 def check_file(
-    path: str | Path, settings: Settings | None = None, profile: str | None = None
+    path: str | Path,
+    settings: Settings | None = None,
+    profile: str | None = None,
+    options: AnalysisOptions | None = None,
 ) -> FileResult:
+    """The analysis of one layout file and the findings of the rules on it."""
     with _collector_paused():
-        return _check(path, settings, profile)
-
-
-def _check(path: str | Path, settings: Settings | None, profile: str | None) -> FileResult:
-    analysis = _analyse(path, profile)
-    if settings is not None and settings.transient:
-        from rulecheck.transient_setup import apply_transient
-
-        apply_transient(analysis)
-    findings = run_rules(analysis, settings)
+        analysis = analyse(load_layout(path, profile), options)
+        findings = run_rules(analysis, settings)
     return FileResult(analysis.layout.path, analysis.layout.profile, findings, analysis)

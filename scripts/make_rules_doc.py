@@ -16,16 +16,11 @@ import argparse
 import sys
 from pathlib import Path
 
-from rulecheck.explain_cmd import fill_snippet
-from rulecheck.profiles import get_profile, profile_ids
+from rulecheck.cli.explain import fill_snippet
+from rulecheck.input.profiles import get_profile, parameters, profile_ids
+from rulecheck.input.rulebook import RuleSpec, rule_specs
 from rulecheck.report import CAUTION
-from rulecheck.report.explain import (
-    PROFILE_PARAMETERS,
-    RULE_PROFILE_PARAMETERS,
-    show_limit,
-    show_profile_parameter,
-)
-from rulecheck.rulebook import RuleSpec, rule_specs
+from rulecheck.report.explain import show_limit, show_profile_parameter
 
 DEFAULT_OUTPUT = Path(__file__).resolve().parent.parent / "docs" / "rules.md"
 
@@ -64,7 +59,7 @@ def rule_section(spec: RuleSpec) -> list[str]:
     names: list[str] = []
     for profile in profiles:
         names += [n for n in spec.raw_limits(profile) if n not in names]
-    shared = RULE_PROFILE_PARAMETERS.get(spec.id, ())
+    shared = spec.uses
     if names or shared:
         out += ["### Limits", ""]
         rows = [
@@ -81,11 +76,12 @@ def rule_section(spec: RuleSpec) -> list[str]:
         ]
         rows += [
             [
-                f"{PROFILE_PARAMETERS[name][0]} (from the profile; {PROFILE_PARAMETERS[name][2]})",
+                f"{parameters()[name].label} (from the profile)",
                 *(
                     _both(
                         show_profile_parameter(name, p, "us"), show_profile_parameter(name, p, "si")
                     )
+                    + f" ({get_profile(p).sources[name]})"
                     for p in profiles
                 ),
             ]

@@ -20,7 +20,7 @@ from pathlib import Path
 import pytest
 from conftest import MINIMAL, tweak
 
-from rulecheck.baseline import apply_baseline, read_baseline
+from rulecheck.engine.baseline import apply_baseline, read_baseline
 from rulecheck.errors import EXIT_FINDINGS, EXIT_INPUT, EXIT_OK, InputError
 from rulecheck.findings import Finding
 

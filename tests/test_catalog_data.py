@@ -227,7 +227,7 @@ def test_copper_material_rating_is_the_lowest_size_row(material_id: str) -> None
 def test_pipe_rating_is_its_own_size_row() -> None:
     """rulecheck reads the size's row: type L 1/2 in at 140 degF interpolates 722 and 614 psi
     (the 100 and 150 degF rows) to 636 psi, not the 4-in row's 258 psi."""
-    from rulecheck.catalog import builtin_catalog
+    from rulecheck.input.catalog import builtin_catalog
 
     material = builtin_catalog().materials["copper-l"]
     psi = q("1 psi").to("Pa").magnitude

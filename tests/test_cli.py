@@ -22,8 +22,8 @@ from conftest import ANSI, CASES, MINIMAL, SAMPLES, tweak
 from rulecheck.checks import REGISTRY
 from rulecheck.errors import EXIT_FINDINGS, EXIT_INPUT, EXIT_OK
 from rulecheck.findings import SEVERITIES
+from rulecheck.input.rulebook import rule_specs
 from rulecheck.report import CAUTION
-from rulecheck.rulebook import rule_specs
 
 Cli = Callable[..., tuple[int, str, str]]
 GPM = 231 * 0.0254**3 / 60  # [m^3/s] [S: NIST SP 811]

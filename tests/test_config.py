@@ -18,7 +18,7 @@ import pint
 import pytest
 from conftest import MINIMAL, locate, tweak
 
-from rulecheck.config import (
+from rulecheck.engine.config import (
     Config,
     declares_profile,
     key_positions,

@@ -20,17 +20,15 @@ import pytest
 import yaml
 
 from rulecheck.checks import REGISTRY
-from rulecheck.config import quantity_kind
+from rulecheck.cli.explain import fill_snippet
+from rulecheck.engine.config import quantity_kind
 from rulecheck.errors import EXIT_INPUT, EXIT_OK
-from rulecheck.explain_cmd import fill_snippet
-from rulecheck.profiles import get_profile, profile_ids
+from rulecheck.input.profiles import profile_ids
+from rulecheck.input.rulebook import rule_specs
 from rulecheck.report.explain import (
-    PROFILE_PARAMETERS,
-    RULE_PROFILE_PARAMETERS,
     explain_text,
     rules_table,
 )
-from rulecheck.rulebook import rule_specs
 
 REPO = Path(__file__).resolve().parent.parent
 UREG = pint.UnitRegistry()
@@ -125,18 +123,22 @@ def test_explain_shows_every_limit_converted(profile: str, units: str) -> None:
 
 @pytest.mark.parametrize("profile", profile_ids())
 def test_explain_shows_the_profile_parameters_a_rule_uses(profile: str) -> None:
-    assert set(RULE_PROFILE_PARAMETERS) <= set(rule_specs())
-    raw = yaml.safe_load((REPO / "rules" / "profiles.yaml").read_text())["profiles"][profile]
-    for rule_id, names in RULE_PROFILE_PARAMETERS.items():
-        text = explain_text(rule_specs()[rule_id], profile, "us")
-        for name in names:
-            assert hasattr(get_profile(profile), name)
-            shown = _shown_values(text, PROFILE_PARAMETERS[name][0])
-            if PROFILE_PARAMETERS[name][1] in ("pressure", "length"):
-                expected = UREG.Quantity(raw[name]).to(SHOWN["us"][PROFILE_PARAMETERS[name][1]])
+    """Each parameter a rule declares under `uses:` is shown with the value and the source
+    rules/profiles.yaml gives it (read here with PyYAML, not through rulecheck)."""
+    data = yaml.safe_load((REPO / "rules" / "profiles.yaml").read_text())
+    raw = data["profiles"][profile]
+    assert any(spec.uses for spec in rule_specs().values())
+    for spec in rule_specs().values():
+        text = explain_text(spec, profile, "us")
+        for name in spec.uses:
+            kind = data["parameters"][name]["kind"]
+            shown = _shown_values(text, data["parameters"][name]["label"])
+            if kind in ("pressure", "length"):
+                expected = UREG.Quantity(raw[name]["value"]).to(SHOWN["us"][kind])
                 assert float(shown.split()[0]) == pytest.approx(expected.magnitude, rel=5e-3)
             else:
-                assert shown.startswith(str(raw[name]))
+                assert shown.startswith(str(raw[name]["value"]))
+            assert f"[{raw[name]['source']}]" in text
 
 
 def test_explain_and_rules_from_the_command_line(cli: Cli) -> None:

@@ -80,7 +80,7 @@ def test_fixture_straight_on_a_heater_outlet_has_no_column_to_stop(
     )
     result = check_file(write_layout(on_outlet))
     event = next(e for e in result.analysis.surge.events if e.fixture.id == "DW1")
-    assert event.path == [] and event.surge == 0.0 and not event.quick
+    assert event.path == () and event.surge == 0.0 and not event.quick
     assert not [f for f in result.findings if f.element == "DW1"]
     one_pipe_on = tweak(
         text, ("fixtures:\n", "fixtures:\n  - {id: DW1, type: dishwasher, hot: H1}\n")

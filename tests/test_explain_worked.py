@@ -9,17 +9,18 @@ reader's units, not a typed figure.
 
 from __future__ import annotations
 
+from dataclasses import replace
 from pathlib import Path
 
 import pytest
 import yaml
 
-from rulecheck.analysis import Analysis
-from rulecheck.engine import run_rules
-from rulecheck.explain_cmd import EXAMPLE, explain
+from rulecheck.analysis import Analysis, analyse
+from rulecheck.cli.explain import EXAMPLE, explain
+from rulecheck.engine.run import run_rules
 from rulecheck.findings import Finding
-from rulecheck.pipeline import analyse_file
-from rulecheck.rulebook import rule_specs
+from rulecheck.input import load_layout
+from rulecheck.input.rulebook import rule_specs
 from rulecheck.units import fmt
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -27,8 +28,7 @@ PSI = 6894.757  # Pa [S: NIST SP 811]
 
 
 def _engine(units: str) -> tuple[Analysis, list[Finding]]:
-    analysis = analyse_file(ROOT / "rules" / EXAMPLE)
-    analysis.layout.units = units
+    analysis = analyse(replace(load_layout(ROOT / "rules" / EXAMPLE), units=units))
     return analysis, run_rules(analysis)
 
 

@@ -159,7 +159,7 @@ def test_file_with_errors_is_counted_as_checked(cli: Cli, tmp_path: Path, good: 
 
 def test_declared_profile_probe_skips_special_files(tmp_path: Path) -> None:
     """``config.profile_for`` peeks into layouts; it must not open a FIFO either."""
-    from rulecheck.config import declares_profile
+    from rulecheck.engine.config import declares_profile
 
     if not hasattr(os, "mkfifo"):
         pytest.skip("no FIFOs on this platform")

@@ -265,7 +265,7 @@ def test_id_ending_in_a_newline(
 
 def test_compiled_check_agrees_with_jsonschema_on_a_final_newline() -> None:
     """Python's ``$`` matches before a final newline; both validity checks must refuse it."""
-    from rulecheck.schema import _compiled_check, _validator
+    from rulecheck.input.schema import _compiled_check, _validator
 
     validator = _validator()
     compiled = _compiled_check()

@@ -28,7 +28,7 @@ import yaml
 from conftest import CASES, MINIMAL, REPO, SAMPLES, locate, tweak
 
 from rulecheck.errors import EXIT_INPUT
-from rulecheck.plausible import BOUNDS, markdown_table
+from rulecheck.input.plausible import BOUNDS, markdown_table
 from rulecheck.units import QuantityError, to_si
 
 Cli = Callable[..., tuple[int, str, str]]

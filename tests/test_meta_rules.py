@@ -23,7 +23,7 @@ from conftest import CASES, REPO
 
 from rulecheck.checks import REGISTRY
 from rulecheck.findings import SEVERITIES
-from rulecheck.rulebook import RULE_FILES, rule_specs
+from rulecheck.input.rulebook import RULE_FILES, rule_specs
 
 RULES_DIR = REPO / "rules"
 MEMORY_PHRASE = "from memory; verify against the adopted edition"

@@ -24,9 +24,9 @@ from pathlib import Path
 import pytest
 from conftest import MINIMAL, tweak
 
-from rulecheck import cli as cli_module
 from rulecheck.errors import EXIT_FINDINGS, EXIT_INPUT, EXIT_INTERRUPTED, EXIT_OK
 from rulecheck.files import OutputError, atomic_output
+from rulecheck.report import text as text_report
 
 Cli = Callable[..., tuple[int, str, str]]
 # 95 psi static (over 80 psi [S: UPC 608.2]) gives one violation, so a baseline has content
@@ -164,7 +164,7 @@ def test_interrupt_mid_report_leaves_the_old_file_whole(
         console.file.flush()
         raise KeyboardInterrupt
 
-    monkeypatch.setattr(cli_module, "render_check", interrupted)
+    monkeypatch.setattr(text_report, "render_check", interrupted)
     rc, out, err = cli("check", "--output", "report.txt", "plan.yaml")
     assert rc == EXIT_INTERRUPTED and "Traceback" not in out + err
     assert (work / "report.txt").read_bytes() == old

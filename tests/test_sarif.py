@@ -24,8 +24,8 @@ import pytest
 from conftest import MINIMAL, tweak
 
 from rulecheck.errors import EXIT_FINDINGS, EXIT_INPUT, EXIT_OK
+from rulecheck.input.rulebook import rule_specs
 from rulecheck.report.sarif import LEVEL
-from rulecheck.rulebook import rule_specs
 
 SCHEMA_PATH = Path(__file__).resolve().parent / "reference" / "sarif-schema-2.1.0.json"
 SCHEMA_SHA256 = "c3b4bb2d6093897483348925aaa73af03b3e3f4bd4ca38cef26dcb4212a2682e"  # README there

@@ -14,11 +14,14 @@ and no bracket opens inside another.
 from __future__ import annotations
 
 import re
+from dataclasses import replace
 from pathlib import Path
 
 import pytest
 
-from rulecheck.engine import run_rules
+from rulecheck.analysis import AnalysisOptions, analyse
+from rulecheck.engine.run import run_rules
+from rulecheck.input import load_layout
 from rulecheck.pipeline import analyse_file
 from rulecheck.units import fmt
 
@@ -41,12 +44,8 @@ FIXED_AFTER = (" limit", " rating")
 
 
 def _messages(path: Path, transient: bool, units: str) -> list[tuple[str, str]]:
-    analysis = analyse_file(path)
-    analysis.layout.units = units
-    if transient and any(e.quick for e in analysis.surge.events):
-        from rulecheck.transient_setup import apply_transient
-
-        apply_transient(analysis, workers=1)
+    layout = replace(load_layout(path), units=units)
+    analysis = analyse(layout, AnalysisOptions(transient=transient, workers=1))
     return [
         (f.rule, text)
         for f in run_rules(analysis)
@@ -202,11 +201,9 @@ def test_corner_bistro_transient_judges_each_pipe_by_its_own_simulated_peak() ->
     """The issue's case: the simulated 463 psi is in the 1/2 in branch P11 (its own rating,
     CTH type L 1/2 in annealed, is far higher), while P10 (1 in) peaked near 150 psi: no
     pipe is over its rating, so no hazard names P10."""
-    from rulecheck.transient_setup import apply_transient
-
-    analysis = analyse_file(ROOT / "samples" / "corner-bistro.yaml")
-    apply_transient(analysis, workers=1)
-    event = next(e for e in analysis.surge.events if e.fixture.id == "DW1")
+    options = AnalysisOptions(transient=True, workers=1)
+    analysis = analyse_file(ROOT / "samples" / "corner-bistro.yaml", options=options)
+    event = next(e for e in analysis.valve_events if e.fixture.id == "DW1")
     ratings = analysis.surge.pipe_rating
     assert event.pipe_peaks["P11"] > 2.5 * event.pipe_peaks["P10"]
     assert max(event.pipe_peaks.values()) == pytest.approx(event.peak, rel=0.02)

@@ -132,15 +132,16 @@ def test_stacked_run_checks_its_arguments() -> None:
 def _transient_numbers(
     monkeypatch: pytest.MonkeyPatch, batch: int, workers: int, whole: bool
 ) -> list:
-    from rulecheck import transient_setup
+    from rulecheck.analysis import AnalysisOptions, transient_run
 
-    monkeypatch.setattr(transient_setup, "BATCH_EVENTS", batch)
-    monkeypatch.setattr(transient_setup, "WHOLE_TREE_PIPES", 1000 if whole else 0)
-    analysis = analyse_file(SAMPLES / "fernhill-clinic.yaml")
-    transient_setup.apply_transient(analysis, workers=workers)
+    monkeypatch.setattr(transient_run, "BATCH_EVENTS", batch)
+    options = AnalysisOptions(
+        transient=True, whole_tree_pipes=1000 if whole else 0, workers=workers
+    )
+    analysis = analyse_file(SAMPLES / "fernhill-clinic.yaml", options=options)
     return [
         (e.fixture.id, e.side, e.peak, e.min_pressure, e.column_separation, e.method)
-        for e in analysis.surge.events
+        for e in analysis.valve_events
         if e.quick
     ]
 
@@ -150,7 +151,8 @@ def test_check_transient_does_not_depend_on_grouping_or_workers(
     monkeypatch: pytest.MonkeyPatch, whole: bool
 ) -> None:
     """Batches of 5 on two workers, one batch on one worker, and one run per event agree."""
-    from rulecheck.transient_setup import METHOD_PATH, METHOD_WHOLE, run_event
+    from rulecheck.analysis.result import METHOD_PATH, METHOD_WHOLE
+    from rulecheck.analysis.transient_model import run_event
 
     small = _transient_numbers(monkeypatch, 5, 2, whole)
     one = _transient_numbers(monkeypatch, 1000, 1, whole)
@@ -171,10 +173,11 @@ def test_check_transient_does_not_depend_on_grouping_or_workers(
 
 def test_small_service_trees_are_simulated_whole() -> None:
     """The samples' trees (6-15 pipes) are under the limit: every event runs whole."""
-    from rulecheck.transient_setup import METHOD_WHOLE, WHOLE_TREE_PIPES, apply_transient
+    from rulecheck.analysis import AnalysisOptions
+    from rulecheck.analysis.result import METHOD_WHOLE, WHOLE_TREE_PIPES
 
-    analysis = analyse_file(SAMPLES / "corner-bistro.yaml")
+    options = AnalysisOptions(transient=True, workers=1)
+    analysis = analyse_file(SAMPLES / "corner-bistro.yaml", options=options)
     sizes = [len(tree.root_of) - 1 for tree in analysis.network.trees.values()]
     assert max(sizes) <= WHOLE_TREE_PIPES
-    apply_transient(analysis, workers=1)
-    assert {e.method for e in analysis.surge.events if e.quick} == {METHOD_WHOLE}
+    assert {e.method for e in analysis.valve_events if e.quick} == {METHOD_WHOLE}

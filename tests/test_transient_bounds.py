@@ -8,15 +8,16 @@ B.4 (a run long enough to see its peak). Each hostile input is one parametrised 
 from __future__ import annotations
 
 import json
-import re
 import math
+import re
 from pathlib import Path
 
 import numpy as np
 import pytest
 from conftest import SAMPLES
 
-from rulecheck import transient_limits
+from rulecheck.analysis import AnalysisOptions, transient_limits
+from rulecheck.analysis.transient_limits import extreme_on_last_step
 from rulecheck.cli import main
 from rulecheck.errors import InputError
 from rulecheck.physics.surge import column_period
@@ -28,8 +29,6 @@ from rulecheck.physics.transient import (
     simulate,
 )
 from rulecheck.pipeline import analyse_file
-from rulecheck.transient_limits import extreme_on_last_step
-from rulecheck.transient_setup import apply_transient
 
 CASES = Path(__file__).resolve().parent / "cases"
 HOUSE = SAMPLES / "two-bath-house.yaml"
@@ -166,6 +165,9 @@ def test_simulate_refuses_a_bad_duration(
     assert words in err and "Traceback" not in err
 
 
+#: check --transient's analysis, on one process
+ONE_WORKER = AnalysisOptions(transient=True, workers=1)
+
 # --- hostile layouts ------------------------------------------------------------------
 
 DW = "{id: DW1, type: dishwasher, hot: HK}"
@@ -228,26 +230,30 @@ def test_hostile_layouts_never_crash_the_transient_side(
     and ``simulate`` gives a result (0) or refuses with the reason (2)."""
     path = _mutant(tmp_path, source, old, new)
     try:
-        analysis = analyse_file(path)
+        analysis = analyse_file(path, options=ONE_WORKER)
     except InputError as refused_at_input:  # the plausibility bounds come first
         assert path.name in str(refused_at_input)
         assert request.node.callspec.id in REFUSED_AT_INPUT
-        for argv in (["check", str(path), "--transient"], ["simulate", str(path), "--valve", valve]):
+        for argv in (
+            ["check", str(path), "--transient"],
+            ["simulate", str(path), "--valve", valve],
+        ):
             assert main(argv) == 2
             err = capsys.readouterr().err
             assert re.search(rf"{re.escape(path.name)}:\d+:\d+: error", err), err
             assert "Traceback" not in err
         return
     assert request.node.callspec.id not in REFUSED_AT_INPUT
-    apply_transient(analysis, workers=1)
-    events = [e for e in analysis.surge.events if e.fixture.id == valve and e.quick]
+    events = [e for e in analysis.valve_events if e.fixture.id == valve and e.quick]
     assert events
     for event in events:
         if refused is None:
             assert event.method.startswith("simulation"), event.method
+            assert event.screening_reason is None
         else:
-            assert event.method.startswith("screening, not simulated"), event.method
-            assert refused in event.method, event.method
+            assert event.method == "screening", event.method
+            reason = event.screening_reason or ""
+            assert reason.startswith("not simulated") and refused in reason, reason
     assert main(["check", str(path), "--transient"]) in (0, 1)
     assert "Traceback" not in capsys.readouterr().err
     spec = f"{valve}:{events[0].side}"
@@ -266,11 +272,10 @@ def test_identical_valves_on_one_point_run_once(tmp_path: Path) -> None:
     many = "\n".join(f"  - {{id: DWX{i}, type: dishwasher, hot: HK}}" for i in range(200))
     path = tmp_path / "many.yaml"
     path.write_text(text.replace(f"  - {DW}\n", f"  - {DW}\n{many}\n", 1), encoding="utf-8")
-    single, crowd = analyse_file(HOUSE), analyse_file(path)
-    apply_transient(single, workers=1)
-    apply_transient(crowd, workers=1)
-    one = next(e for e in single.surge.events if e.fixture.id == "DW1")
-    dishwashers = [e for e in crowd.surge.events if e.fixture.type.id == "dishwasher"]
+    single = analyse_file(HOUSE, options=ONE_WORKER)
+    crowd = analyse_file(path, options=ONE_WORKER)
+    one = next(e for e in single.valve_events if e.fixture.id == "DW1")
+    dishwashers = [e for e in crowd.valve_events if e.fixture.type.id == "dishwasher"]
     assert len(dishwashers) == 201
     # the crowd's demand changes the steady pressures, so compare the crowd with itself
     assert len({(e.peak, e.min_pressure, e.method) for e in dishwashers}) == 1
@@ -282,15 +287,13 @@ def test_stacks_split_by_trace_memory_give_the_same_numbers(
 ) -> None:
     """A stacked run records every member over its longest member's steps; with a tiny
     memory bound every event runs alone, and the numbers stay the same (to round-off)."""
-    import rulecheck.transient_setup as setup
+    import rulecheck.analysis.transient_run as runner
 
     sample = SAMPLES / "fernhill-clinic.yaml"
-    stacked = analyse_file(sample)
-    apply_transient(stacked, workers=1)
-    monkeypatch.setattr(setup, "MAX_TRACE_BYTES", 1)
-    alone = analyse_file(sample)
-    apply_transient(alone, workers=1)
-    for a, b in zip(stacked.surge.events, alone.surge.events, strict=True):
+    stacked = analyse_file(sample, options=ONE_WORKER)
+    monkeypatch.setattr(runner, "MAX_TRACE_BYTES", 1)
+    alone = analyse_file(sample, options=ONE_WORKER)
+    for a, b in zip(stacked.valve_events, alone.valve_events, strict=True):
         assert a.method == b.method
         assert a.peak == pytest.approx(b.peak, rel=1e-9, abs=1e-6)
         assert a.min_pressure == pytest.approx(b.min_pressure, rel=1e-9, abs=1e-6)
@@ -308,7 +311,6 @@ def test_simulate_falls_back_to_the_path_model_when_a_branch_passes_a_bound(
     assert data["model"] == "path model"
     assert data["notes"][0].startswith("the whole tree was not simulated")
     assert data["peak_pressure"] > 0
-    analysis = analyse_file(path)
-    apply_transient(analysis, workers=1)
-    laundry = next(e for e in analysis.surge.events if e.fixture.id == "CW1" and e.side == "hot")
+    analysis = analyse_file(path, options=ONE_WORKER)
+    laundry = next(e for e in analysis.valve_events if e.fixture.id == "CW1" and e.side == "hot")
     assert laundry.method.startswith("simulation, path model")

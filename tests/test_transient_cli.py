@@ -128,7 +128,7 @@ def test_check_transient_says_which_method_gave_the_number(
 def test_wave_speed_adjustment_stays_within_a_few_percent_on_every_sample_valve() -> None:
     """engineering-basis §10: each pipe gets whole reaches, adjusting a by at most a few
     percent (5 % here), also when the adapter asks for a finer step than the pipes need."""
-    from rulecheck.transient_setup import run_event
+    from rulecheck.analysis.transient_model import run_event
 
     samples = Path(__file__).resolve().parent.parent / "samples"
     worst = 0.0
@@ -143,19 +143,31 @@ def test_wave_speed_adjustment_stays_within_a_few_percent_on_every_sample_valve(
 def test_column_separation_away_from_the_valve_is_placed_and_measured_at_vapour() -> None:
     """A simulated cavity elsewhere on the tree: the finding names that place, and its
     measured value is the vapour pressure reached there, not the valve's own minimum."""
-    from rulecheck.engine import run_rules
-    from rulecheck.physics.surge import STANDARD_ATMOSPHERE
+    from rulecheck.analysis import Analysis, TransientOutcome
+    from rulecheck.engine.run import run_rules
+    from rulecheck.physics.constants import STANDARD_ATMOSPHERE
 
-    analysis = analyse_file(CASES / "surge-peak" / "fail.yaml")
-    event = analysis.surge.events[0]
-    event.column_separation, event.method = True, "simulation, whole service tree"
-    event.min_pressure, event.cavity_at = 20 * PSI, "in pipe P2"
-    found = [f for f in run_rules(analysis) if f.rule == "column-separation"]
+    screened = analyse_file(CASES / "surge-peak" / "fail.yaml")
+    event = screened.surge.events[0]
+
+    def simulated(cavity_at: str | None) -> Analysis:
+        outcome = TransientOutcome(
+            "simulation, whole service tree",
+            ran=True,
+            peak=event.peak,
+            minimum=20 * PSI,
+            column_separation=True,
+            cavity_at=cavity_at,
+        )
+        rest = (None,) * (len(screened.surge.events) - 1)
+        return Analysis.of(screened, screened.surge, (outcome, *rest), screened.options)
+
+    found = [f for f in run_rules(simulated("in pipe P2")) if f.rule == "column-separation"]
     assert len(found) == 1
     assert "the water in pipe P2 to vapour pressure" in found[0].message
-    vapour = analysis.water_for(event.side).vapour_pressure - STANDARD_ATMOSPHERE
+    vapour = screened.water_for(event.side).vapour_pressure - STANDARD_ATMOSPHERE
     assert found[0].measured == pytest.approx(vapour)
-    event.cavity_at = None  # at the valve: the valve's minimum is the number
-    found = [f for f in run_rules(analysis) if f.rule == "column-separation"]
+    # at the valve: the valve's minimum is the number
+    found = [f for f in run_rules(simulated(None)) if f.rule == "column-separation"]
     assert found[0].measured == pytest.approx(20 * PSI)
     assert f"drops {event.point} to" in found[0].message

@@ -9,7 +9,7 @@ from __future__ import annotations
 from collections.abc import Callable, Iterable
 
 from rulecheck.checks import housekeeping, hydraulic, surge
-from rulecheck.engine import RuleContext
+from rulecheck.engine.context import RuleContext
 from rulecheck.findings import Finding
 
 Check = Callable[[RuleContext], Iterable[Finding]]

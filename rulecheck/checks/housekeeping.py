@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 
-from rulecheck.engine import RuleContext
+from rulecheck.engine.context import RuleContext
 from rulecheck.findings import Finding
 
 

@@ -6,9 +6,9 @@ import math
 from collections.abc import Iterator
 
 from rulecheck.analysis import Analysis
-from rulecheck.engine import RuleContext
+from rulecheck.engine.context import RuleContext
 from rulecheck.findings import Finding
-from rulecheck.model import Layout, Pipe
+from rulecheck.input.model import Layout, Pipe
 
 
 def _velocity_limit_for(ctx: RuleContext, pipe: Pipe) -> float:

@@ -4,21 +4,18 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 
-from rulecheck.engine import RuleContext
+from rulecheck.analysis.result import METHOD_SCREENING, ValveEvent
+from rulecheck.analysis.screening import arrester_capacity_ok, pipes_over_rating, wsfu_within
+from rulecheck.engine.context import RuleContext
 from rulecheck.findings import Finding
-from rulecheck.physics.surge import STANDARD_ATMOSPHERE
-from rulecheck.profiles import aa_appliances, smallest_class_for
-from rulecheck.surge_analysis import (
-    ValveEvent,
-    arrester_capacity_ok,
-    pipes_over_rating,
-    wsfu_within,
-)
+from rulecheck.input.profiles import aa_appliances, smallest_class_for
+from rulecheck.physics.constants import STANDARD_ATMOSPHERE
+from rulecheck.physics.surge import closure_time_for_limit
 
 
-def _events(ctx: RuleContext) -> list[ValveEvent]:
-    surge = ctx.analysis.surge
-    return surge.events if surge is not None else []
+def _events(ctx: RuleContext) -> tuple[ValveEvent, ...]:
+    """The valve events as judged: screening, or simulated where a simulation ran."""
+    return ctx.analysis.valve_events
 
 
 #: The screening formula behind a surge, as a label names it. "Joukowsky" labels ρ·a·Δv only.
@@ -28,13 +25,14 @@ FORMULA = {"joukowsky": "Joukowsky ρ·a·Δv", "slow-closure": "slow-closure 2�
 def method_label(e: ValveEvent, base: str = "") -> str:
     """Where a surge figure of ``e`` comes from: the screening formula (with ``base``, the
     static pressure it is added to or taken from) or the simulation that replaced it."""
-    if e.method != "screening":
+    if e.method != METHOD_SCREENING:
         return e.method  # "simulation, whole service tree" | "simulation, path model"
-    return f"screening, {base}{FORMULA[e.surge_formula]}"
+    label = f"screening, {base}{FORMULA[e.surge_formula]}"
+    return f"{label}; {e.screening_reason}" if e.screening_reason else label
 
 
 def _peak_label(e: ValveEvent) -> str:
-    if e.method == "screening" and e.protected_by and e.peak < e.unprotected_peak:
+    if e.method == METHOD_SCREENING and e.protected_by and e.peak < e.unprotected_peak:
         return f"screening, arrester {e.protected_by} credited with the design limit"
     return method_label(e, "static max + ")
 
@@ -56,8 +54,8 @@ def _ms(seconds: float) -> str:
 
 
 def _suggestion(ctx: RuleContext, e: ValveEvent) -> str:
-    reach = ctx.analysis.profile.arrester_distance
-    units = wsfu_within(ctx.analysis, e.point, e.side, reach)
+    reach = ctx.parameter("arrester_distance")
+    units = wsfu_within(ctx.analysis.surge, e.point, e.side, reach)
     cls = smallest_class_for(units) or "F (or several)"
     return (
         f"a sealed class {cls} arrester at {e.point} would serve {units:.1f} WSFU "
@@ -65,16 +63,17 @@ def _suggestion(ctx: RuleContext, e: ValveEvent) -> str:
     )
 
 
-def _safe_closure(e: ValveEvent) -> str:
-    """The shortest closure that keeps the peak at the limit, with where it comes from: the
+def _safe_closure(e: ValveEvent, limit: float) -> str:
+    """The shortest closure that keeps the peak at ``limit``, with where it comes from: the
     screening formula solved for t (a simulation does not give it), or T_c when longer."""
-    if e.min_safe_closure >= e.critical_time:
-        return f"{_ms(e.min_safe_closure)} (screening, slow-closure 2ρ·ΣL·Δv/t solved for t)"
+    safe = closure_time_for_limit(e.column_momentum, e.static_max, limit)
+    if safe >= e.critical_time:
+        return f"{_ms(safe)} (screening, slow-closure 2ρ·ΣL·Δv/t solved for t)"
     return f"{_ms(e.critical_time)} (critical time Σ2L/a)"
 
 
 def closure_time(ctx: RuleContext) -> Iterator[Finding]:
-    limit = ctx.analysis.profile.surge_limit
+    limit = ctx.parameter("surge_limit")
     for e in _events(ctx):
         if e.protected_by or e.closure_time > e.critical_time:
             continue
@@ -86,7 +85,7 @@ def closure_time(ctx: RuleContext) -> Iterator[Finding]:
             outcome = f"{rise}, under the {ctx.fmt(limit, 'pressure')} limit"
             fix = "an arrester still softens the shock: " + _suggestion(ctx, e)
         else:
-            safe = _safe_closure(e)
+            safe = _safe_closure(e, limit)
             outcome = (
                 f"{rise}; closing in {safe} or longer keeps the peak under the "
                 f"{ctx.fmt(limit, 'pressure')} limit"
@@ -104,9 +103,8 @@ def closure_time(ctx: RuleContext) -> Iterator[Finding]:
 
 
 def surge_peak(ctx: RuleContext) -> Iterator[Finding]:
-    limit = ctx.analysis.profile.surge_limit
-    surge = ctx.analysis.surge
-    ratings = surge.pipe_rating if surge is not None else {}
+    limit = ctx.parameter("surge_limit")
+    ratings = ctx.analysis.surge.pipe_rating
     pipes = {p.id: p for p in ctx.analysis.layout.pipes}
     for e in _events(ctx):
         over = pipes_over_rating(e, ratings)
@@ -130,7 +128,7 @@ def surge_peak(ctx: RuleContext) -> Iterator[Finding]:
                 method=e.method,
                 fix="protect the valve with a sealed arrester and use pipe rated for the peak",
             )
-        elif (e.protected_by is None or e.method != "screening") and e.peak > limit:
+        elif (e.protected_by is None or e.method != METHOD_SCREENING) and e.peak > limit:
             yield ctx.finding(
                 e.fixture.id,
                 f"valve {_valve(ctx, e)}: surge {_fig(ctx, e.surge, 'pressure', method_label(e))}"
@@ -140,7 +138,7 @@ def surge_peak(ctx: RuleContext) -> Iterator[Finding]:
                     f"with arrester {e.protected_by}"
                     if e.protected_by
                     else f"no sealed arrester within "
-                    f"{ctx.fmt(ctx.analysis.profile.arrester_distance, 'length')}"
+                    f"{ctx.fmt(ctx.parameter('arrester_distance'), 'length')}"
                 ),
                 measured=e.peak,
                 limit=limit,
@@ -183,7 +181,7 @@ def column_separation(ctx: RuleContext) -> Iterator[Finding]:
 
 
 def arrester_required(ctx: RuleContext) -> Iterator[Finding]:
-    reach = ctx.analysis.profile.arrester_distance
+    reach = ctx.parameter("arrester_distance")
     for e in _events(ctx):
         if not e.quick or e.protected_by:
             continue
@@ -199,7 +197,7 @@ def arrester_required(ctx: RuleContext) -> Iterator[Finding]:
             f"{_fig(ctx, e.unprotected_peak, 'pressure', method_label(e, 'static max + '))}, "
             f"no sealed arrester within {ctx.fmt(reach, 'length')}{chambers}",
             measured=e.unprotected_peak,
-            limit=ctx.analysis.profile.surge_limit,
+            limit=ctx.parameter("surge_limit"),
             kind="pressure",
             fix=_suggestion(ctx, e),
             method=e.method,
@@ -208,10 +206,9 @@ def arrester_required(ctx: RuleContext) -> Iterator[Finding]:
 
 def arrester_capacity(ctx: RuleContext) -> Iterator[Finding]:
     surge = ctx.analysis.surge
-    if surge is None:
-        return
+    ctx.parameter("arrester_distance")  # the reach that decided which arrester serves whom
     for arrester in ctx.analysis.layout.arresters:
-        served = surge.served.get(arrester.id, [])
+        served = surge.served.get(arrester.id, ())
         if arrester.kind != "sealed" or arrester_capacity_ok(arrester, served, aa_appliances()):
             continue
         total = sum(units for _, _, units in served)
@@ -234,7 +231,7 @@ def arrester_capacity(ctx: RuleContext) -> Iterator[Finding]:
 
 
 def arrester_kind(ctx: RuleContext) -> Iterator[Finding]:
-    severity = ctx.analysis.profile.air_chamber_severity
+    severity = ctx.parameter("air_chamber_severity")
     for arrester in ctx.analysis.layout.arresters:
         if arrester.kind == "sealed":
             continue

@@ -8,8 +8,7 @@ from collections.abc import Sequence
 import numpy as np
 from numpy.typing import ArrayLike
 
-STANDARD_ATMOSPHERE = 101325.0  # [Pa] [S: ISO 2533]
-STANDARD_GRAVITY = 9.80665  # [m/s^2] [S: CGPM 1901 standard gravity]
+from rulecheck.physics.constants import STANDARD_ATMOSPHERE, STANDARD_GRAVITY
 
 
 def _path(
@@ -272,9 +271,50 @@ def min_safe_closure_time(
     1. Derived from Michaud's formula, engineering-basis section 7 [D].
     """
     length, dv = _path(lengths, velocity_changes, "velocity_changes")
+    return closure_time_for_limit(float(density * np.sum(length * dv)), static_max, limit)
+
+
+def closure_time_for_limit(column_momentum: float, static_max: float, limit: float) -> float:
+    """Michaud's formula solved for the closure time that brings the peak to a limit.
+
+    t = 2 M / (P - p_static,max),  M = rho sum(L_i dv_i)
+
+    Parameters
+    ----------
+    column_momentum : float
+        Momentum of the stopped column per unit area, M = rho sum(L_i dv_i) [Pa s].
+    static_max : float
+        Highest static gauge pressure at the valve [Pa].
+    limit : float
+        Allowed peak gauge pressure P [Pa].
+
+    Returns
+    -------
+    float
+        Closure time t [s]; ``math.inf`` when the static pressure already reaches the
+        limit.
+
+    Notes
+    -----
+    The same inversion as :func:`min_safe_closure_time`, for a rule that judges against
+    its own limit while the analysis keeps M [D].
+
+    Examples
+    --------
+    M = 998.2 kg/m^3 * 20 m * 1 m/s = 19964 Pa s, static 60 psi, limit 150 psi:
+    2 * 19964 / 620528 = 0.0643 s [D], as in :func:`min_safe_closure_time`:
+
+    >>> psi = 6894.757
+    >>> print(f"{closure_time_for_limit(19964.0, 60 * psi, 150 * psi):.4f}")
+    0.0643
+
+    References
+    ----------
+    1. Derived from Michaud's formula, engineering-basis section 7 [D].
+    """
     if static_max >= limit:
         return math.inf
-    return float(2.0 * density * np.sum(length * dv) / (limit - static_max))
+    return 2.0 * column_momentum / (limit - static_max)
 
 
 def column_separates(

@@ -3,10 +3,10 @@
 from __future__ import annotations
 
 from rulecheck.analysis import Analysis
+from rulecheck.analysis.screening import ValveEvent
 from rulecheck.errors import visible
+from rulecheck.physics.constants import STANDARD_ATMOSPHERE
 from rulecheck.physics.demand import hunter_table
-from rulecheck.physics.surge import STANDARD_ATMOSPHERE
-from rulecheck.surge_analysis import ValveEvent
 from rulecheck.units import from_si, unit_label
 
 

@@ -4,46 +4,10 @@ from __future__ import annotations
 
 from typing import Any
 
-from rulecheck.config import quantity_kind
-from rulecheck.profiles import get_profile
-from rulecheck.rulebook import RuleSpec, rule_specs
+from rulecheck.engine.config import quantity_kind
+from rulecheck.input.profiles import get_profile, parameters
+from rulecheck.input.rulebook import RuleSpec, rule_specs
 from rulecheck.units import fmt, to_si
-
-#: Profile parameters (rules/profiles.yaml) that act as a rule's limits: label, kind, and
-#: the source with its tag as rules/profiles.yaml gives it.
-PROFILE_PARAMETERS: dict[str, tuple[str, str, str]] = {
-    "surge_limit": (
-        "design surge limit, peak pressure",
-        "pressure",
-        "ASSE 1010 arrester rating [S: ASSE 1010 summary]",
-    ),
-    "arrester_distance": (
-        "arrester placement distance, along the pipe path",
-        "length",
-        "PDI-WH 201 placement; from memory; verify against the adopted edition [M]",
-    ),
-    "fittings_allowance": (
-        "fittings allowance, fraction of developed length",
-        "fraction",
-        "common practice [CP]",
-    ),
-    "air_chamber_severity": (
-        "severity given to an air chamber",
-        "text",
-        "air chambers no longer recognised by IPC/NSPC, tolerated by UPC "
-        '[S: PM Magazine, "Water hammer update"]',
-    ),
-}
-#: Which of them each rule reads (see rulecheck/checks and rulecheck/surge_analysis.py).
-RULE_PROFILE_PARAMETERS: dict[str, tuple[str, ...]] = {
-    "residual-pressure": ("fittings_allowance",),
-    "closure-time": ("surge_limit", "arrester_distance"),
-    "surge-peak": ("surge_limit", "arrester_distance"),
-    "column-separation": ("arrester_distance",),
-    "arrester-required": ("arrester_distance", "surge_limit"),
-    "arrester-capacity": ("arrester_distance",),
-    "arrester-kind": ("air_chamber_severity",),
-}
 
 
 def show_limit(raw: Any, units: str) -> str:
@@ -53,12 +17,14 @@ def show_limit(raw: Any, units: str) -> str:
 
 
 def show_profile_parameter(name: str, profile: str, units: str) -> str:
-    """A profile parameter (``PROFILE_PARAMETERS``) of ``profile`` in the reader's units."""
-    value = getattr(get_profile(profile), name)
-    kind = PROFILE_PARAMETERS[name][1]
+    """A profile parameter of ``profile`` in the reader's units."""
+    value = get_profile(profile).value(name)
+    kind = parameters()[name].kind
     if kind == "fraction":
         return f"{value:g} ({value * 100:g} %)"
-    return fmt(value, kind, units) if kind != "text" else str(value)
+    if kind in ("text", "number"):
+        return str(value) if kind == "text" else f"{value:g}"
+    return fmt(value, kind, units)
 
 
 def rules_table() -> str:
@@ -79,7 +45,7 @@ def explain_text(
     snippets: dict[str, str] | None = None,
 ) -> str:
     """Format one rule's explanation; ``worked`` and the filled ``snippets`` (the rule's
-    example snippets with their catalog references resolved) come from rulecheck.explain_cmd."""
+    example snippets with their catalog references resolved) come from rulecheck.cli.explain."""
     snippets = spec.examples if snippets is None else snippets
     out = [
         f"{spec.id} — {spec.title}",
@@ -96,13 +62,13 @@ def explain_text(
         out.append(f"Limits (profile {profile}):")
         out += [f"  {name}: {show_limit(raw, units)}" for name, raw in limits.items()]
         out.append("")
-    shared = RULE_PROFILE_PARAMETERS.get(spec.id, ())
-    if shared:
+    if spec.uses:
+        sources = get_profile(profile).sources
         out.append(f"From the profile {profile} (rules/profiles.yaml):")
         out += [
-            f"  {PROFILE_PARAMETERS[name][0]}: {show_profile_parameter(name, profile, units)}"
-            f"  [{PROFILE_PARAMETERS[name][2]}]"
-            for name in shared
+            f"  {parameters()[name].label}: {show_profile_parameter(name, profile, units)}"
+            f"  [{sources[name]}]"
+            for name in spec.uses
         ]
         out.append("")
     if worked:

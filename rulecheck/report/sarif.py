@@ -21,12 +21,12 @@ from typing import Any
 from urllib.parse import quote
 
 from rulecheck import __version__
-from rulecheck.config import relative_posix
+from rulecheck.engine.config import relative_posix
 from rulecheck.errors import InputError, InputProblem
 from rulecheck.findings import Finding
-from rulecheck.profiles import profile_ids
+from rulecheck.input.profiles import profile_ids
+from rulecheck.input.rulebook import RuleSpec, rule_specs
 from rulecheck.report import CAUTION
-from rulecheck.rulebook import RuleSpec, rule_specs
 
 SARIF_VERSION = "2.1.0"
 SARIF_SCHEMA = (

@@ -9,85 +9,18 @@ from __future__ import annotations
 
 import traceback
 from collections.abc import Iterable
-from dataclasses import dataclass, field
+from dataclasses import replace
 from typing import Any
 
 from rulecheck.analysis import Analysis
-from rulecheck.errors import Position
+from rulecheck.checks import REGISTRY
+from rulecheck.engine.context import RuleContext, Settings
 from rulecheck.findings import Finding
-from rulecheck.rulebook import RuleSpec, rule_specs
-from rulecheck.units import fmt
-
-
-@dataclass
-class Settings:
-    """Per-run choices: disabled rules, severity and limit overrides, waivers honoured."""
-
-    disabled: set[str] = field(default_factory=set)
-    severity: dict[str, str] = field(default_factory=dict)
-    limits: dict[str, dict[str, Any]] = field(default_factory=dict)
-    honour_waivers: bool = True
-    transient: bool = False
-
-
-@dataclass
-class RuleContext:
-    """What a rule function sees: the analysis, its own data, and a finding factory."""
-
-    analysis: Analysis
-    spec: RuleSpec
-    settings: Settings
-    extra: dict[str, Any] = field(default_factory=dict)  # shared results (e.g. surge events)
-
-    @property
-    def units(self) -> str:
-        return self.analysis.layout.units
-
-    def limit(self, name: str, kind: str) -> float:
-        return self.spec.limit(
-            self.analysis.layout.profile, name, kind, self.settings.limits.get(self.spec.id)
-        )
-
-    def fmt(self, value: float, kind: str) -> str:
-        return fmt(value, kind, self.units)
-
-    def finding(
-        self,
-        element: str,
-        message: str,
-        *,
-        measured: float | None = None,
-        limit: float | None = None,
-        kind: str | None = None,
-        fix: str = "",
-        severity: str | None = None,
-        method: str = "",
-        pos: Position | None = None,
-    ) -> Finding:
-        layout = self.analysis.layout
-        pos = pos or layout.positions.get(element)
-        line, column = (pos.line, pos.column) if pos else (1, 1)
-        return Finding(
-            rule=self.spec.id,
-            severity=self.settings.severity.get(self.spec.id, severity or self.spec.severity),
-            message=message,
-            path=layout.path,
-            line=line,
-            column=column,
-            element=element,
-            source=self.spec.source,
-            measured=measured,
-            limit=limit,
-            kind=kind,
-            fix=fix,
-            method=method,
-        )
+from rulecheck.input.rulebook import rule_specs
 
 
 def run_rules(analysis: Analysis, settings: Settings | None = None) -> list[Finding]:
     """Evaluate every enabled rule; return the findings sorted, waivers applied."""
-    from rulecheck.checks import REGISTRY  # the registry imports rule modules that import us
-
     settings = settings or Settings()
     specs = rule_specs()
     shared: dict[str, Any] = {}
@@ -122,10 +55,6 @@ def _guarded(check: Any, ctx: RuleContext) -> Iterable[Finding]:
 def _apply_waivers(
     analysis: Analysis, findings: list[Finding], settings: Settings, shared: dict[str, Any]
 ) -> list[Finding]:
-    from dataclasses import replace
-
-    from rulecheck.checks import REGISTRY
-
     waivers = analysis.layout.waivers
     if not settings.honour_waivers or not waivers:
         return findings

@@ -12,9 +12,9 @@ from functools import cache
 from typing import Any, TypeVar
 
 from rulecheck.errors import InputError, ProblemCollector
-from rulecheck.loader import Document, JsonPath, parse_text
-from rulecheck.model import FixtureType, Material, Wsfu
-from rulecheck.reader import Reader
+from rulecheck.input.loader import Document, JsonPath, parse_text
+from rulecheck.input.model import FixtureType, Material, Wsfu
+from rulecheck.input.reader import Reader
 from rulecheck.resources import read_text
 
 MATERIALS_FILE = "materials.yaml"

@@ -30,6 +30,7 @@ class RuleSpec:
     formula: str
     limits: dict[str, dict[str, Any]] = field(default_factory=dict)  # profile -> name -> raw
     examples: dict[str, str] = field(default_factory=dict)  # failing / passing layout snippets
+    uses: tuple[str, ...] = ()  # profile parameters the rule reads (rules/profiles.yaml)
 
     def raw_limits(self, profile: str) -> dict[str, Any]:
         merged = dict(self.limits.get("default", {}))
@@ -66,5 +67,6 @@ def rule_specs() -> dict[str, RuleSpec]:
                 formula=raw.get("formula", "").strip(),
                 limits=raw.get("limits", {}),
                 examples=raw.get("examples", {}),
+                uses=tuple(raw.get("uses", ())),
             )
     return specs

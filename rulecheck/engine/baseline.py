@@ -16,7 +16,7 @@ from collections import Counter
 from pathlib import Path
 from typing import Any
 
-from rulecheck.config import relative_posix
+from rulecheck.engine.config import relative_posix
 from rulecheck.errors import NO_POSITION, InputError, Position
 from rulecheck.files import MAX_BASELINE_BYTES, atomic_output, read_text
 from rulecheck.findings import Finding

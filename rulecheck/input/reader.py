@@ -5,9 +5,9 @@ from __future__ import annotations
 from typing import Any
 
 from rulecheck.errors import ProblemCollector
-from rulecheck.loader import Document, JsonPath
-from rulecheck.plausible import ambiguous_bare_time
-from rulecheck.plausible import problem as implausible
+from rulecheck.input.loader import Document, JsonPath
+from rulecheck.input.plausible import ambiguous_bare_time
+from rulecheck.input.plausible import problem as implausible
 from rulecheck.units import BARE_UNIT, QuantityError, to_si
 
 

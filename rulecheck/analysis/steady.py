@@ -9,65 +9,20 @@ root outward with elevation, devices and the heater.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
-from typing import Any
-
 import numpy as np
 
-from rulecheck.model import Fixture, Layout
-from rulecheck.network import Network, Tree
+from rulecheck.analysis.result import SteadyState, frozen_array, frozen_map
+from rulecheck.input.model import Fixture, Layout
+from rulecheck.input.network import Network, Tree
+from rulecheck.input.profiles import get_profile
+from rulecheck.physics.constants import STANDARD_ATMOSPHERE, STANDARD_GRAVITY
 from rulecheck.physics.demand import demand_flow, flushometer_column, hunter_table
 from rulecheck.physics.friction import darcy_pressure_drop
-from rulecheck.physics.surge import STANDARD_ATMOSPHERE
 from rulecheck.physics.water import WaterProperties, water_properties
-from rulecheck.profiles import Profile, get_profile
-
-G = 9.80665  # standard gravity [m/s²] [S: CGPM 1901]
 
 
-@dataclass
-class Analysis:
-    """Everything the rules read; arrays are indexed like ``layout.pipes``."""
-
-    layout: Layout
-    network: Network
-    profile: Profile
-    water: dict[str, WaterProperties]
-    wsfu: np.ndarray  # fixture units carried [WSFU]
-    fixtures_served: np.ndarray  # count of fixtures downstream [-]
-    flow: np.ndarray  # design flow [m³/s]
-    velocity: np.ndarray  # [m/s]
-    friction_drop: np.ndarray  # friction pressure drop incl. fittings allowance [Pa]
-    # demand curve (engineering-basis §3.2): the project's setting, each pipe's share of
-    # fixture units on flushometer valves [-] and whether it reads the flushometer column
-    demand_curve: str = "auto"
-    flushometer_share: np.ndarray = field(default_factory=lambda: np.zeros(0))
-    flushometer_column: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=bool))
-    static_max: dict[str, float] = field(default_factory=dict)  # per node, gauge [Pa]
-    static_min: dict[str, float] = field(default_factory=dict)  # both floored at p_v − p_atm
-    # points where the static column cannot stand (static min at the vapour pressure: the
-    # supply cannot lift water there at rest, the column separates)
-    static_separated: set[str] = field(default_factory=set)
-    # pressure left at design flow [Pa]: static min less lift, friction and device losses.
-    # Below zero it is not a pressure but a shortfall: the design flow cannot be delivered.
-    residual: dict[str, float] = field(default_factory=dict)
-    surge: Any = None  # rulecheck.surge_analysis.SurgeAnalysis, filled in by the pipeline
-
-    def water_for(self, service: str) -> WaterProperties:
-        return self.water["cold" if service == "cold" else "hot"]
-
-    def fixture_residual(self, fixture: Fixture) -> tuple[float, str]:
-        """The lower residual pressure of the fixture's sides and which side it is."""
-        sides = [
-            (self.residual[p], s)
-            for s, p in (("cold", fixture.cold), ("hot", fixture.hot))
-            if p is not None and p in self.residual
-        ]
-        return min(sides)
-
-
-def analyse(layout: Layout, network: Network) -> Analysis:
-    """Run the steady analysis of one layout."""
+def steady_state(layout: Layout, network: Network) -> SteadyState:
+    """The steady hydraulics of one layout (engineering-basis §3–5)."""
     profile = get_profile(layout.profile)
     water = {
         "cold": water_properties(layout.cold_temperature),
@@ -104,22 +59,26 @@ def analyse(layout: Layout, network: Network) -> Analysis:
         if n
         else np.zeros(0)
     )
-    result = Analysis(
-        layout,
-        network,
-        profile,
-        water,
-        wsfu,
-        served,
-        flow,
-        flow / area if n else np.zeros(0),
-        drop,
+    velocity = flow / area if n else np.zeros(0)
+    static_max, static_min, separated, residual = _pressures(layout, network, water, drop)
+    return SteadyState(
+        layout=layout,
+        network=network,
+        profile=profile,
+        water=frozen_map(water),
+        wsfu=frozen_array(wsfu),
+        fixtures_served=frozen_array(served, int),
+        flow=frozen_array(flow),
+        velocity=frozen_array(velocity),
+        friction_drop=frozen_array(drop),
         demand_curve=layout.demand_curve,
-        flushometer_share=np.clip(share, 0.0, 1.0),
-        flushometer_column=flush & (wsfu >= _first_flushometer_row()),
+        flushometer_share=frozen_array(np.clip(share, 0.0, 1.0)),
+        flushometer_column=frozen_array(flush & (wsfu >= _first_flushometer_row()), bool),
+        static_max=frozen_map(static_max),
+        static_min=frozen_map(static_min),
+        static_separated=frozenset(separated),
+        residual=frozen_map(residual),
     )
-    _pressures(result)
-    return result
 
 
 def _accumulate(layout: Layout, network: Network) -> tuple[np.ndarray, ...]:
@@ -192,26 +151,31 @@ def _meeting_point(tree: Tree, network: Network, a: str, b: str) -> str:
     return a
 
 
-def _pressures(result: Analysis) -> None:
-    """Static max/min and residual pressure at every node, root outward (§4).
+Pressures = tuple[dict[str, float], dict[str, float], set[str], dict[str, float]]
+
+
+def _pressures(
+    layout: Layout, network: Network, water: dict[str, WaterProperties], friction: np.ndarray
+) -> Pressures:
+    """Static max/min and residual pressure at every node, root outward (§4), and the
+    points whose static column cannot stand.
 
     The static pressures are carried as head balances and then floored at the vapour
     pressure of that service (gauge p_v − p_atm): below it the water column separates.
     """
-    layout, network = result.layout, result.network
     devices: dict[str, list] = {}
     for device in layout.devices:
         devices.setdefault(device.on, []).append(device)
     smax: dict[str, float] = {}
     smin: dict[str, float] = {}
-    res = result.residual
+    res: dict[str, float] = {}
     z = network.elevation
     for supply in layout.supplies:
         smax[supply.id], smin[supply.id] = supply.pressure_max, supply.pressure_min
         res[supply.id] = supply.pressure_min
     for service in ("cold", "hot"):
         tree = network.trees[service]
-        rho_g = result.water[service].density * G
+        rho_g = water[service].density * STANDARD_GRAVITY
         for node in tree.order:
             index = tree.parent.get(node)
             if index is None:
@@ -226,23 +190,29 @@ def _pressures(result: Analysis) -> None:
             pipe = layout.pipes[index]
             lift = rho_g * (z[node] - z[pipe.start])
             hi, lo = smax[pipe.start] - lift, smin[pipe.start] - lift
-            flowing = res[pipe.start] - lift - result.friction_drop[index]
+            flowing = res[pipe.start] - lift - friction[index]
             for device in devices.get(pipe.id, ()):
                 flowing -= device.loss
                 if device.kind == "pressure-reducing" and device.set_pressure is not None:
                     hi, lo = min(hi, device.set_pressure), min(lo, device.set_pressure)
                     flowing = min(flowing, device.set_pressure)
             smax[node], smin[node], res[node] = hi, lo, flowing
-    _floor_static(result, smax, smin)
+    return (*_floor_static(network, water, smax, smin), res)
 
 
-def _floor_static(result: Analysis, smax: dict[str, float], smin: dict[str, float]) -> None:
+def _floor_static(
+    network: Network,
+    water: dict[str, WaterProperties],
+    smax: dict[str, float],
+    smin: dict[str, float],
+) -> tuple[dict[str, float], dict[str, float], set[str]]:
     """Static pressures as water can hold them: never below p_v − p_atm (gauge)."""
-    service_of = result.network.service_of
+    floored_max, floored_min, separated = {}, {}, set()
     for node in smax:
-        service = "hot" if service_of(node) == "hot" else "cold"
-        floor = result.water[service].vapour_pressure - STANDARD_ATMOSPHERE
-        result.static_max[node] = max(smax[node], floor)
-        result.static_min[node] = max(smin[node], floor)
+        service = "hot" if network.service_of(node) == "hot" else "cold"
+        floor = water[service].vapour_pressure - STANDARD_ATMOSPHERE
+        floored_max[node] = max(smax[node], floor)
+        floored_min[node] = max(smin[node], floor)
         if smin[node] < floor:
-            result.static_separated.add(node)
+            separated.add(node)
+    return floored_max, floored_min, separated

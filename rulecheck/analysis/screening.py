@@ -11,14 +11,22 @@ here too, so the rules only compare numbers.
 from __future__ import annotations
 
 import heapq
-from dataclasses import dataclass, field
+from collections.abc import Mapping, Sequence
+from types import MappingProxyType
+from typing import Any
 
 import numpy as np
 
-from rulecheck.analysis import Analysis
-from rulecheck.model import Arrester, Fixture
+from rulecheck.analysis.result import (
+    SteadyState,
+    SurgeScreening,
+    ValveEvent,
+    frozen_array,
+    frozen_map,
+)
+from rulecheck.input.model import Arrester, Fixture
+from rulecheck.physics.constants import STANDARD_ATMOSPHERE
 from rulecheck.physics.surge import (
-    STANDARD_ATMOSPHERE,
     column_separates,
     critical_time,
     joukowsky,
@@ -29,62 +37,15 @@ from rulecheck.physics.surge import (
 from rulecheck.physics.wavespeed import wave_speed
 
 
-@dataclass
-class ValveEvent:
-    """One valve closing on one side of one fixture."""
-
-    fixture: Fixture
-    side: str  # cold | hot
-    point: str
-    path: list[int]  # pipe indices from the valve to the root, nearest first
-    flow: float  # flow stopped [m³/s]
-    closure_time: float  # [s]
-    critical_time: float  # Σ 2L/a [s]
-    quick: bool  # closes quickly by its type or within the critical time
-    surge: float  # pressure rise [Pa]
-    static_max: float  # [Pa]
-    static_min: float  # [Pa]
-    unprotected_peak: float  # static max + surge [Pa]
-    peak: float  # as credited (capped at the design limit when protected) [Pa]
-    min_pressure: float  # max(static min − surge, vapour pressure − p_atm), gauge [Pa]
-    min_safe_closure: float  # closure time keeping the peak at the design limit [s]
-    protected_by: str | None
-    column_separation: bool  # unprotected minimum reaches vapour pressure
-    joukowsky: float = 0.0  # screening ρ·a₁·Δv₁ [Pa]; kept when a simulation replaces surge
-    surge_formula: str = "joukowsky"  # screening formula of ``surge``: joukowsky | slow-closure
-    # peak pressure per pipe id [Pa gauge]: screening, the valve's surge on every path pipe
-    # (pipe_peaks_on_path); a simulation, each simulated pipe's own envelope maximum
-    pipe_peaks: dict[str, float] = field(default_factory=dict)
-    method: str = "screening"
-    nearby_air_chambers: list[str] = field(default_factory=list)
-    # where a simulated column separated away from the valve ("at X" / "in pipe P");
-    # None at the valve itself, and for the screening
-    cavity_at: str | None = None
-
-
-@dataclass
-class SurgeAnalysis:
-    wave_speed: np.ndarray  # per pipe [m/s]
-    events: list[ValveEvent]
-    served: dict[str, list[tuple[Fixture, str, float]]]  # arrester id -> (fixture, side, WSFU)
-    within_reach: dict[
-        tuple[str, str], list[tuple[float, str]]
-    ]  # (point, service) -> (dist, arrester)
-    side_index: dict[str, tuple] = field(default_factory=dict)  # memo for wsfu_within
-    # allowable pressure of each pipe (by id), its material and size at its service
-    # temperature [Pa]
-    pipe_rating: dict[str, float] = field(default_factory=dict)
-
-
-def pipe_ratings(analysis: Analysis) -> dict[str, float]:
+def pipe_ratings(analysis: SteadyState) -> dict[str, float]:
     """Allowable working pressure of every pipe at its own service temperature [Pa]."""
     layout = analysis.layout
     return {p.id: p.rating_at(layout.temperature(p.service)) for p in layout.pipes}
 
 
 def pipe_peaks_on_path(
-    analysis: Analysis, path: list[int], surge: float, cap: float | None
-) -> dict[str, float]:
+    analysis: SteadyState, path: tuple[int, ...], surge: float, cap: float | None
+) -> MappingProxyType[str, float]:
     """Screening peak in each pipe of a valve's path [Pa gauge].
 
     Each pipe gets the higher static maximum of its two ends plus the full surge at the
@@ -98,17 +59,17 @@ def pipe_peaks_on_path(
         pipe = layout.pipes[k]
         peak = max(static[pipe.start], static[pipe.end]) + surge
         peaks[pipe.id] = min(peak, cap) if cap is not None else peak
-    return peaks
+    return MappingProxyType(peaks)
 
 
-def pipes_over_rating(event: ValveEvent, ratings: dict[str, float]) -> list[tuple[str, float]]:
+def pipes_over_rating(event: ValveEvent, ratings: Mapping[str, float]) -> list[tuple[str, float]]:
     """The pipes whose own peak exceeds their own rating: (pipe id, peak), the largest
     ratio of peak to rating first (then by id, for a stable order)."""
     over = [(pid, peak) for pid, peak in event.pipe_peaks.items() if peak > ratings[pid]]
     return sorted(over, key=lambda item: (-item[1] / ratings[item[0]], item[0]))
 
 
-def pipe_wave_speeds(analysis: Analysis) -> np.ndarray:
+def pipe_wave_speeds(analysis: SteadyState) -> np.ndarray:
     """Korteweg–Halliwell wave speed of each pipe at its service temperature."""
     layout = analysis.layout
     speeds = np.zeros(len(layout.pipes))
@@ -123,10 +84,10 @@ def pipe_wave_speeds(analysis: Analysis) -> np.ndarray:
             pipe.wall,
             pipe.anchoring,
         )
-    return speeds
+    return frozen_array(speeds)
 
 
-def _adjacency(analysis: Analysis, service: str) -> dict[str, list[tuple[str, float]]]:
+def _adjacency(analysis: SteadyState, service: str) -> dict[str, list[tuple[str, float]]]:
     tree = analysis.network.trees[service]
     adjacent: dict[str, list[tuple[str, float]]] = {}
     for node, index in tree.parent.items():
@@ -136,7 +97,7 @@ def _adjacency(analysis: Analysis, service: str) -> dict[str, list[tuple[str, fl
     return adjacent
 
 
-def arresters_within(analysis: Analysis, reach: float) -> dict[tuple[str, str], list]:
+def arresters_within(analysis: SteadyState, reach: float) -> dict[tuple[str, str], list]:
     """For every (point, service): the arresters within ``reach`` of pipe path, nearest first.
 
     A bounded Dijkstra from each arrester over its service tree (developed lengths).
@@ -165,7 +126,7 @@ def arresters_within(analysis: Analysis, reach: float) -> dict[tuple[str, str], 
     return found
 
 
-def screen_surges(analysis: Analysis) -> SurgeAnalysis:
+def screen_surges(analysis: SteadyState) -> SurgeScreening:
     """Screen every fixture valve of the layout, per side."""
     layout, profile = analysis.layout, analysis.profile
     speeds = pipe_wave_speeds(analysis)
@@ -184,23 +145,30 @@ def screen_surges(analysis: Analysis) -> SurgeAnalysis:
             if protector is not None:
                 units = fixture.wsfu.cold if side == "cold" else fixture.wsfu.hot
                 served[protector].append((fixture, side, units))
-            event = _screen_one(analysis, speeds, fixture, side, point, protector)
-            event.nearby_air_chambers = [a for _, a in nearby if arresters[a].kind != "sealed"]
-            events.append(event)
-    return SurgeAnalysis(speeds, events, served, reach, pipe_rating=pipe_ratings(analysis))
+            chambers = tuple(a for _, a in nearby if arresters[a].kind != "sealed")
+            events.append(_screen_one(analysis, speeds, fixture, side, point, protector, chambers))
+    return SurgeScreening(
+        wave_speed=speeds,
+        events=tuple(events),
+        served=frozen_map({k: tuple(v) for k, v in served.items()}),
+        within_reach=frozen_map({k: tuple(v) for k, v in reach.items()}),
+        side_index=frozen_map({side: _side_index(analysis, side) for side in ("cold", "hot")}),
+        pipe_rating=frozen_map(pipe_ratings(analysis)),
+    )
 
 
 def _screen_one(
-    analysis: Analysis,
+    analysis: SteadyState,
     speeds: np.ndarray,
     fixture: Fixture,
     side: str,
     point: str,
     protector: str | None,
+    chambers: tuple[str, ...],
 ) -> ValveEvent:
     layout, profile = analysis.layout, analysis.profile
     water = analysis.water_for(side)
-    path = analysis.network.path_up(point, side)
+    path = tuple(analysis.network.path_up(point, side))
     pipes = [layout.pipes[i] for i in path]
     lengths = [p.length for p in pipes]
     a = [float(speeds[i]) for i in path]
@@ -235,7 +203,9 @@ def _screen_one(
             if path
             else 0.0
         ),
+        column_momentum=water.density * sum(x * v for x, v in zip(lengths, dv, strict=True)),
         protected_by=protector,
+        nearby_air_chambers=chambers,
         joukowsky=rise,
         surge_formula="joukowsky" if surge >= rise * (1 - 1e-12) else "slow-closure",
         pipe_peaks=pipe_peaks_on_path(analysis, path, surge, cap),
@@ -244,9 +214,9 @@ def _screen_one(
     )
 
 
-def wsfu_within(analysis: Analysis, point: str, side: str, reach: float) -> float:
+def wsfu_within(surge: SurgeScreening, point: str, side: str, reach: float) -> float:
     """Fixture units (that side) of the fixtures whose point lies within ``reach`` of ``point``."""
-    adjacent, units_at = _side_index(analysis, side)
+    adjacent, units_at = surge.side_index[side]
     best = {point: 0.0}
     queue = [(0.0, point)]
     while queue:
@@ -258,23 +228,22 @@ def wsfu_within(analysis: Analysis, point: str, side: str, reach: float) -> floa
     return sum(units_at.get(node, 0.0) for node in best)
 
 
-def _side_index(analysis: Analysis, side: str) -> tuple[dict, dict[str, float]]:
+def _side_index(analysis: SteadyState, side: str) -> tuple[Mapping[str, Any], Mapping[str, float]]:
     """Adjacency of one service tree and the fixture units at each of its points, built
     once per analysis (a suggestion is asked for on every finding)."""
-    cache = analysis.surge.side_index if analysis.surge is not None else {}
-    if side not in cache:
-        units_at: dict[str, float] = {}
-        for fixture in analysis.layout.fixtures:
-            node = fixture.side_point(side)
-            if node is not None:
-                units = fixture.wsfu.cold if side == "cold" else fixture.wsfu.hot
-                units_at[node] = units_at.get(node, 0.0) + units
-        cache[side] = (_adjacency(analysis, side), units_at)
-    return cache[side]
+    units_at: dict[str, float] = {}
+    for fixture in analysis.layout.fixtures:
+        node = fixture.side_point(side)
+        if node is not None:
+            units = fixture.wsfu.cold if side == "cold" else fixture.wsfu.hot
+            units_at[node] = units_at.get(node, 0.0) + units
+    return frozen_map(_adjacency(analysis, side)), frozen_map(units_at)
 
 
 def arrester_capacity_ok(
-    arrester: Arrester, served: list[tuple[Fixture, str, float]], appliance_types: frozenset[str]
+    arrester: Arrester,
+    served: Sequence[tuple[Fixture, str, float]],
+    appliance_types: frozenset[str],
 ) -> bool:
     """Whether the fixtures an arrester serves fit its class (AA: one residential appliance)."""
     total = sum(units for _, _, units in served)

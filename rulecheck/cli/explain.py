@@ -10,20 +10,28 @@ here from the catalog in the reader's units. ``report/explain.py`` only formats.
 
 from __future__ import annotations
 
+import argparse
 import re
+import sys
 from collections.abc import Callable
 from functools import cache
 
-from rulecheck.analysis import Analysis, G
-from rulecheck.catalog import builtin_catalog
-from rulecheck.engine import run_rules
+from rich.console import Console
+
+from rulecheck.analysis import Analysis
+from rulecheck.analysis.result import ValveEvent
+from rulecheck.cli.common import UsageError
+from rulecheck.engine.run import run_rules
+from rulecheck.errors import EXIT_OK
 from rulecheck.findings import Finding
-from rulecheck.physics.surge import STANDARD_ATMOSPHERE
-from rulecheck.profiles import arrester_classes
+from rulecheck.input.catalog import builtin_catalog
+from rulecheck.input.profiles import arrester_classes, default_profile_id, profile_ids
+from rulecheck.input.rulebook import RuleSpec, rule_specs
+from rulecheck.physics.constants import STANDARD_ATMOSPHERE
+from rulecheck.physics.constants import STANDARD_GRAVITY as G
 from rulecheck.report.explain import explain_text
 from rulecheck.resources import data_dir
-from rulecheck.rulebook import RuleSpec
-from rulecheck.surge_analysis import ValveEvent
+from rulecheck.suggest import suggest
 from rulecheck.units import fmt
 
 EXAMPLE = "examples/dishwasher-run.yaml"
@@ -34,11 +42,13 @@ Steps = Callable[[Analysis, list[Finding], str], list[str]]
 @cache
 def _example(units: str) -> tuple[Analysis, tuple[Finding, ...]]:
     """The built-in example analysed and checked once per unit system."""
-    from rulecheck.pipeline import analyse_file
+    from dataclasses import replace
 
-    analysis = analyse_file(str(data_dir("rules") / EXAMPLE))
-    analysis.layout.units = units
-    analysis.layout.path = f"rules/{EXAMPLE}"
+    from rulecheck.analysis import analyse
+    from rulecheck.input import load_layout
+
+    layout = load_layout(str(data_dir("rules") / EXAMPLE))
+    analysis = analyse(replace(layout, units=units, path=f"rules/{EXAMPLE}"))
     return analysis, tuple(run_rules(analysis))
 
 
@@ -227,3 +237,19 @@ def explain(spec: RuleSpec, profile: str, units: str) -> str:
     """The whole ``explain`` text of one rule."""
     snippets = {key: fill_snippet(raw, units) for key, raw in spec.examples.items()}
     return explain_text(spec, profile, units, worked_example(spec.id, units), snippets)
+
+
+def add_parser(sub: argparse._SubParsersAction) -> None:
+    explain = sub.add_parser("explain", help="why a rule exists, its formula, limits and source")
+    explain.add_argument("rule", metavar="RULE")
+    explain.add_argument("--profile", choices=profile_ids(), default=default_profile_id())
+    explain.add_argument("--units", choices=("us", "si"), default="us")
+
+
+def run(args: argparse.Namespace, console: Console) -> int:
+    spec = rule_specs().get(args.rule)
+    if spec is None:
+        hint = suggest(args.rule, rule_specs(), "`rulecheck rules`")
+        raise UsageError(f"rulecheck explain: unknown rule '{args.rule}' ({hint})")
+    sys.stdout.write(explain(spec, args.profile, args.units))
+    return EXIT_OK

@@ -12,8 +12,10 @@ from typing import Any
 from rich.console import Console
 from rich.progress import Progress
 
+from rulecheck.cli.common import UsageError
 from rulecheck.errors import EXIT_OK, InputError, Position
 from rulecheck.findings import _clean
+from rulecheck.input.profiles import profile_ids
 from rulecheck.suggest import suggest
 from rulecheck.units import fmt
 
@@ -41,10 +43,34 @@ def _pick_event(analysis: Any, spec: str) -> Any:
     return events[0]
 
 
-def run_simulate(args: argparse.Namespace, console: Console) -> int:
+def add_parser(sub: argparse._SubParsersAction) -> None:
+    simulate = sub.add_parser("simulate", help="transient simulation of one valve closing")
+    simulate.add_argument("path", metavar="FILE")
+    simulate.add_argument(
+        "--valve",
+        required=True,
+        metavar="FIXTURE[:side]",
+        help="the fixture whose valve closes, and its side (cold or hot)",
+    )
+    simulate.add_argument(
+        "--duration",
+        type=float,
+        metavar="S",
+        help="simulated time in seconds (default: closure + the longer of 10 round trips and "
+        "one arrester-column period, run on while an extreme is on the last step)",
+    )
+    simulate.add_argument("--format", choices=("text", "json", "csv"), default="text")
+    simulate.add_argument("--profile", choices=profile_ids())
+
+
+def run(args: argparse.Namespace, console: Console) -> int:
+    if args.duration is not None and not 0 < args.duration < float("inf"):
+        raise UsageError(
+            "rulecheck simulate: --duration must be a positive, finite number of seconds"
+        )
+    from rulecheck.analysis.transient_limits import RunRefused
+    from rulecheck.analysis.transient_model import run_event
     from rulecheck.pipeline import analyse_file
-    from rulecheck.transient_limits import RunRefused
-    from rulecheck.transient_setup import run_event
 
     analysis = analyse_file(args.path, args.profile)
     event = _pick_event(analysis, args.valve)

@@ -30,14 +30,14 @@ from typing import Any
 
 import yaml
 
-from rulecheck.engine import Settings
+from rulecheck.engine.context import Settings
 from rulecheck.errors import NO_POSITION, InputError, Position, ProblemCollector
 from rulecheck.files import MAX_CONFIG_BYTES, is_regular_file, read_text
 from rulecheck.findings import SEVERITIES
-from rulecheck.plausible import LIMIT_BOUND
-from rulecheck.plausible import problem as implausible
-from rulecheck.profiles import profile_ids
-from rulecheck.rulebook import RuleSpec, rule_specs
+from rulecheck.input.plausible import LIMIT_BOUND
+from rulecheck.input.plausible import problem as implausible
+from rulecheck.input.profiles import default_profile_id, get_profile, parameters, profile_ids
+from rulecheck.input.rulebook import RuleSpec, rule_specs
 from rulecheck.suggest import suggest
 from rulecheck.textscan import deep_nesting, digit_limit, long_number
 from rulecheck.units import QuantityError, to_si
@@ -265,9 +265,18 @@ def _limits(spec: RuleSpec, table: Any, key: KeyPath, problem: Any) -> dict[str,
         problem(key, "'limits' should be a table", 'e.g. limits = { cold = "7 ft/s" }')
         return {}
     known = limit_defaults(spec)
+    shared = parameters()
     result: dict[str, Any] = {}
     for name, value in table.items():
         where = (*key, name)
+        if name in spec.uses and shared[name].stage == "analysis":
+            problem(
+                where,
+                f"'{name}' shapes the analysis itself ({shared[name].label}), so one rule "
+                "cannot change it",
+                'choose a profile (profile = "...", or project.profile in the layout)',
+            )
+            continue
         if name not in known:
             problem(
                 where,
@@ -276,6 +285,16 @@ def _limits(spec: RuleSpec, table: Any, key: KeyPath, problem: Any) -> dict[str,
                 if known
                 else "this rule has no limits to set",
             )
+            continue
+        if name in shared and shared[name].kind == "text":  # a severity, e.g. the air chamber's
+            if value in SEVERITIES:
+                result[name] = value
+            else:
+                problem(
+                    where,
+                    f"'{name}' of {spec.id} should be a severity, got {value!r}",
+                    f"one of: {', '.join(SEVERITIES)}",
+                )
             continue
         kind = quantity_kind(known[name])
         if kind is None:
@@ -313,11 +332,17 @@ def _limits(spec: RuleSpec, table: Any, key: KeyPath, problem: Any) -> dict[str,
 
 
 def limit_defaults(spec: RuleSpec) -> dict[str, Any]:
-    """Every limit name of ``spec`` with its first value in the data (default block first)."""
+    """Every limit name ``spec`` may have overridden, with its first value in the data: its
+    own limits (default block first), then the ``rule``-stage profile parameters it uses
+    (as the default profile gives them)."""
     names: dict[str, Any] = {}
     for block in ("default", *sorted(spec.limits)):
         for name, raw in (spec.limits.get(block) or {}).items():
             names.setdefault(name, raw)
+    profile = get_profile(default_profile_id())
+    for name in spec.uses:
+        if parameters()[name].stage == "rule":
+            names.setdefault(name, profile.raw[name])
     return names
 
 

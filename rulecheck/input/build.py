@@ -12,10 +12,10 @@ import math
 from collections.abc import Iterable
 from typing import Any
 
-from rulecheck.catalog import Catalog, project_catalog, size_label, wsfu_from
 from rulecheck.errors import ProblemCollector
-from rulecheck.loader import Document
-from rulecheck.model import (
+from rulecheck.input.catalog import Catalog, project_catalog, size_label, wsfu_from
+from rulecheck.input.loader import Document
+from rulecheck.input.model import (
     Arrester,
     Device,
     Fixture,
@@ -27,8 +27,8 @@ from rulecheck.model import (
     Waiver,
     Wsfu,
 )
-from rulecheck.profiles import arrester_classes, default_profile_id, get_profile, profile_ids
-from rulecheck.reader import Reader
+from rulecheck.input.profiles import arrester_classes, default_profile_id, get_profile, profile_ids
+from rulecheck.input.reader import Reader
 from rulecheck.resources import data_dir
 from rulecheck.suggest import suggest
 
@@ -110,32 +110,42 @@ class _Builder:
     def build(self) -> Layout:
         self.register_ids()
         project, water = self.data["project"], self.data.get("water", {})
-        layout = Layout(
+        cold = self.temperature(water, "cold_temperature", 288.15)
+        hot = self.temperature(water, "hot_temperature", 333.15)
+        supplies = [self.supply(p, s) for p, s in self.items("supplies")]
+        points = [
+            Point(i["id"], self.q(i, p, "elevation", "length", 0.0, "elevation"), self.doc.where(p))
+            for p, i in self.items("points")
+        ]
+        self.check_supplies_push(points)
+        heaters = [self.heater(p, h) for p, h in self.items("heaters")]
+        pipes = [pipe for p, i in self.items("pipes") if (pipe := self.pipe(p, i))]
+        fixtures = [f for p, i in self.items("fixtures") if (f := self.fixture(p, i))]
+        arresters = [self.arrester(p, a) for p, a in self.items("arresters")]
+        devices = [self.device(p, d) for p, d in self.items("devices")]
+        waivers = [self.waiver(p, w) for p, w in self.items("waivers")]
+        self.problems.raise_if_any()
+        # Without problems every id is unique and every element built, each with the position
+        # of its path: the same table as {id: where(path)}, in the same order, made once.
+        kinds: list[list[Any]] = [supplies, heaters, points, pipes, fixtures, arresters, devices]
+        return Layout(
             path=self.doc.path,
             name=project["name"],
             units=self.system,
             profile=self.profile_id,
-            cold_temperature=self.temperature(water, "cold_temperature", 288.15),
-            hot_temperature=self.temperature(water, "hot_temperature", 333.15),
+            cold_temperature=cold,
+            hot_temperature=hot,
             demand_curve=project.get("demand_curve", "auto"),
+            supplies=supplies,
+            heaters=heaters,
+            points=points,
+            pipes=pipes,
+            fixtures=fixtures,
+            arresters=arresters,
+            devices=devices,
+            waivers=waivers,
+            positions={e.id: e.pos for kind in kinds for e in kind},
         )
-        layout.supplies = [self.supply(p, s) for p, s in self.items("supplies")]
-        layout.points = [
-            Point(i["id"], self.q(i, p, "elevation", "length", 0.0, "elevation"), self.doc.where(p))
-            for p, i in self.items("points")
-        ]
-        self.check_supplies_push(layout)
-        layout.heaters = [self.heater(p, h) for p, h in self.items("heaters")]
-        layout.pipes = [pipe for p, i in self.items("pipes") if (pipe := self.pipe(p, i))]
-        layout.fixtures = [f for p, i in self.items("fixtures") if (f := self.fixture(p, i))]
-        layout.arresters = [self.arrester(p, a) for p, a in self.items("arresters")]
-        layout.devices = [self.device(p, d) for p, d in self.items("devices")]
-        layout.waivers = [self.waiver(p, w) for p, w in self.items("waivers")]
-        self.problems.raise_if_any()
-        # Without problems every id is unique and every element built, each with the position
-        # of its path: the same table as {id: where(path)}, in the same order, made once.
-        layout.positions = {e.id: e.pos for kind in _ELEMENT_KINDS for e in getattr(layout, kind)}
-        return layout
 
     def temperature(self, water: dict[str, Any], key: str, default: float) -> float:
         value = self.reader.quantity(
@@ -174,14 +184,14 @@ class _Builder:
             self.unpressured.append((supply, where, f"max static {shown}"))
         return supply
 
-    def check_supplies_push(self, layout: Layout) -> None:
+    def check_supplies_push(self, points: list[Point]) -> None:
         """Refuse a supply at no pressure above atmospheric that stands below every point.
 
         A supply at 0 gauge is legal: the free surface of a roof tank feeds the floors
         below it by elevation alone. But when no point lies below it, the static pressure
         p = p_s - rho*g*(z - z_s) is nowhere above zero and nothing flows [physical].
         """
-        lowest = min((p.elevation for p in layout.points), default=math.inf)
+        lowest = min((p.elevation for p in points), default=math.inf)
         for supply, where, shown in self.unpressured:
             if lowest < supply.elevation:
                 continue

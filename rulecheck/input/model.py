@@ -1,6 +1,6 @@
 """The layout as typed records in SI units (m, s, Pa gauge, m³/s, K).
 
-Built from a validated document by :mod:`rulecheck.build`. Everything downstream
+Built from a validated document by :mod:`rulecheck.input.build`. Everything downstream
 (analysis, rules, reports) reads these records, never the raw YAML.
 """
 
@@ -174,7 +174,7 @@ class Waiver:
     pos: Position
 
 
-@dataclass
+@dataclass(frozen=True)
 class Layout:
     path: str
     name: str

@@ -1,4 +1,4 @@
-"""Turn one valve event of a layout into a transient network, run it, read the result back.
+"""One valve event of a layout as a transient network: build it, run it, read it back.
 
 The service tree that holds the valve becomes the MOC network: its root (supply or
 heater outlet) is a constant head at the root's static minimum, every other fixture
@@ -20,33 +20,14 @@ of the static head for the linear equations, an approximation once cavities form
 from __future__ import annotations
 
 import math
-import multiprocessing as mp
-import os
-from collections import Counter
 from collections.abc import Callable
-from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, field
 
 import numpy as np
 
-from rulecheck.analysis import Analysis, G
-from rulecheck.physics.demand import demand_flow
-from rulecheck.physics.friction import friction_factor, reynolds_number
-from rulecheck.physics.surge import STANDARD_ATMOSPHERE
-from rulecheck.physics.transient import (
-    ClosingValve,
-    GasArrester,
-    TransientNetwork,
-    TransientPipe,
-    TransientResult,
-    simulate,
-    simulate_many,
-)
-from rulecheck.physics.transient_grid import choose_time_step
-from rulecheck.surge_analysis import ValveEvent
-from rulecheck.transient_limits import (
+from rulecheck.analysis.result import Analysis, ValveEvent
+from rulecheck.analysis.transient_limits import (
     EXTENSIONS,
-    MAX_TRACE_BYTES,
     RunBounds,
     RunRefused,
     arrester_periods,
@@ -55,9 +36,22 @@ from rulecheck.transient_limits import (
     extreme_on_last_step,
     run_length,
     shortest_run,
-    stack_bytes,
     start_heads,
 )
+from rulecheck.physics.arrester import design_column_energy, gas_volume_for_energy
+from rulecheck.physics.constants import STANDARD_ATMOSPHERE
+from rulecheck.physics.constants import STANDARD_GRAVITY as G
+from rulecheck.physics.demand import demand_flow
+from rulecheck.physics.friction import friction_factor, reynolds_number
+from rulecheck.physics.transient import (
+    ClosingValve,
+    GasArrester,
+    TransientNetwork,
+    TransientPipe,
+    TransientResult,
+    simulate,
+)
+from rulecheck.physics.transient_grid import choose_time_step
 from rulecheck.units import fmt
 
 
@@ -85,31 +79,6 @@ class EventRun:
     cavities: list[Cavity]  # in the order they formed
     pipe_max: dict[str, float] = field(default_factory=dict)  # every simulated pipe [Pa gauge]
     notes: list[str] = field(default_factory=list)  # bounds the run met (plain words)
-
-
-def equivalent_gas_volume(
-    energy: float, p_static_abs: float, p_limit_abs: float, n: float
-) -> float:
-    """Energy method [D]: the gas volume at ``p_static_abs`` that absorbs ``energy`` [J] in a
-    polytropic compression (exponent ``n``) ending at ``p_limit_abs``.
-
-    W = p1·V1·((p2/p1)^((n−1)/n) − 1)/(n − 1)  ⇒  V1 = E·(n − 1) / (p1·((p2/p1)^((n−1)/n) − 1)).
-    """
-    ratio = (p_limit_abs / p_static_abs) ** ((n - 1) / n) - 1
-    return energy * (n - 1) / (p_static_abs * ratio)
-
-
-# Design column for an arrester class when the layout gives no gas volume [M: PDI-WH 201
-# rates arresters on a column moving at 10 ft/s; the 50 ft column length is our assumption
-# [D]; verify against the manufacturer's data and give gas_volume/precharge instead].
-DESIGN_VELOCITY = 3.048  # 10 ft/s [m/s]
-DESIGN_LENGTH = 15.24  # 50 ft [m]
-
-
-def class_energy(capacity_wsfu: float) -> float:
-    """Kinetic energy [J] of the design column of an arrester class: ½·ρ·Q·L·v (ρ = 1000)."""
-    flow = float(demand_flow(capacity_wsfu, False))
-    return 0.5 * 1000.0 * flow * DESIGN_LENGTH * DESIGN_VELOCITY
 
 
 def _path_nodes(analysis: Analysis, event: ValveEvent) -> set[str]:
@@ -199,6 +168,7 @@ def build_event_network(
     sized: dict[str, float] = {}
     unstopped: list[str] = []
     gas = []
+    # the kinetic energy of the valve's column, which an unsized arrester must absorb [D]
     energy = (
         0.5
         * water.density
@@ -224,8 +194,9 @@ def build_event_network(
                     "give its gas_volume and precharge",
                     arrester.id,
                 )
-            volume = equivalent_gas_volume(
-                max(energy, class_energy(arrester.capacity)),
+            class_flow = float(demand_flow(arrester.capacity, False))
+            volume = gas_volume_for_energy(
+                max(energy, design_column_energy(class_flow, water.density)),
                 p_static,
                 limit,
                 analysis.profile.polytropic_exponent,
@@ -470,193 +441,3 @@ def run_event(
     setup = prepare_event(analysis, event, duration, whole_tree)
     result = simulate(setup.network, setup.duration, dt=setup.dt, progress=progress)
     return run_on(analysis, setup, result, progress)
-
-
-#: Events run together in one stacked simulation by ``check --transient`` [D: tuned with
-#: benchmarks/bench_transient.py; larger batches waste steps on their shorter events].
-BATCH_EVENTS = 64
-
-#: ``check --transient`` simulates service trees of up to this many pipes whole, larger
-#: ones by the path model [D]. Measured (2026-12-02, ``python
-#: benchmarks/path_vs_whole.py``: every quick valve of the samples and every 19th of
-#: the benchmark tower, 101 events): the path model's peak was 0.97 to 1.14 times the
-#: whole tree's (median 1.02), with the same cavitation verdicts. Whole 200-pipe riser
-#: trees of the tower would cost about 50 times their path models (section-steps), beyond
-#: the 10 s budget of a 500-fixture building.
-WHOLE_TREE_PIPES = 60
-
-METHOD_WHOLE = "simulation, whole service tree"
-METHOD_PATH = "simulation, path model"
-#: A valve ``check --transient`` did not simulate: its screening numbers stand [D].
-METHOD_NOT_SIMULATED = "screening, not simulated"
-
-_WORK: Analysis | None = None  # the analysis a forked worker process reads
-
-
-@dataclass(frozen=True)
-class Outcome:
-    """What ``check --transient`` keeps of one event's run, or why it was not run."""
-
-    peak: float = math.nan  # [Pa gauge]
-    minimum: float = math.nan  # [Pa gauge]
-    cavitation: bool = False
-    cavity_at: str | None = None  # where the column first separated, away from the valve
-    notes: tuple[str, ...] = ()  # bounds the run met
-    refused: str | None = None  # not simulated: why (screening kept)
-    whole: bool = True  # the whole service tree was simulated (else the path model)
-    pipe_max: tuple[tuple[str, float], ...] = ()  # peak per simulated pipe [Pa gauge]
-
-
-def _cavity_away(run: EventRun) -> str | None:
-    """Where the column first separated, when it did not at the valve (None if it did
-    there, or nowhere)."""
-    if not run.cavities or any(c.point == run.event.point for c in run.cavities):
-        return None
-    first = run.cavities[0]
-    return f"at {first.point}" if first.point else f"in pipe {first.pipe}"
-
-
-def _stacks(setups: list[tuple[int, EventSetup]]) -> list[list[tuple[int, EventSetup]]]:
-    """Setups in stacked runs whose recorded histories stay within ``MAX_TRACE_BYTES``
-    (a stacked run records every member over its longest member's steps)."""
-    stacks: list[list[tuple[int, EventSetup]]] = []
-    for item in sorted(setups, key=lambda js: (-js[1].steps, js[0])):
-        if stacks:
-            top = [*stacks[-1], item]
-            arresters = sum(len(s.network.arresters) for _, s in top)
-            if stack_bytes(top[0][1].steps, len(top), arresters) <= MAX_TRACE_BYTES:
-                stacks[-1].append(item)
-                continue
-        stacks.append([item])
-    return stacks
-
-
-def _run_batch(batch: list[tuple[int, bool]]) -> list[Outcome]:
-    """Runs of some of ``_WORK``'s events (index, whole tree?), stacked into simulations."""
-    assert _WORK is not None
-    analysis = _WORK
-    outcomes: list[Outcome] = [Outcome(refused="not run")] * len(batch)
-    setups = []
-    for j, (i, whole) in enumerate(batch):
-        event = analysis.surge.events[i]
-        try:
-            setups.append((j, prepare_event(analysis, event, None, whole)))
-        except RunRefused as refusal:
-            outcomes[j] = Outcome(refused=refusal.reason)
-            if whole:  # a pipe off the valve's path may be what passed a bound
-                try:
-                    setups.append((j, prepare_event(analysis, event, None, False)))
-                except RunRefused as again:
-                    outcomes[j] = Outcome(refused=again.reason)
-    for stack in _stacks(setups):
-        results = simulate_many(
-            [s.network for _, s in stack], [s.duration for _, s in stack], [s.dt for _, s in stack]
-        )
-        for (j, setup), result in zip(stack, results, strict=True):
-            try:
-                run = run_on(analysis, setup, result)
-            except RunRefused as refusal:
-                outcomes[j] = Outcome(refused=refusal.reason)
-                continue
-            outcomes[j] = Outcome(
-                run.peak,
-                run.minimum,
-                bool(run.result.cavitation),
-                _cavity_away(run),
-                tuple(run.notes),
-                whole=setup.whole_tree,
-                pipe_max=tuple(sorted(run.pipe_max.items())),
-            )
-    return outcomes
-
-
-def _whole_tree(analysis: Analysis, todo: list[int]) -> dict[int, bool]:
-    """Whether each event's service tree is small enough to simulate whole."""
-    sizes = {side: Counter(tree.root_of.values()) for side, tree in analysis.network.trees.items()}
-    found = {}
-    for i in todo:
-        event = analysis.surge.events[i]
-        root = analysis.network.trees[event.side].root_of[event.point]
-        found[i] = sizes[event.side][root] - 1 <= WHOLE_TREE_PIPES  # nodes - 1 = pipes
-    return found
-
-
-def _batches(analysis: Analysis, todo: list[int]) -> list[list[tuple[int, bool]]]:
-    """Events in runs of ``BATCH_EVENTS``, grouped by about how many steps they take (the
-    stacked run lasts as long as its longest member); fixed by the layout alone, so the
-    results do not depend on the number of workers."""
-    whole = _whole_tree(analysis, todo)
-
-    def steps(i: int) -> float:  # about: the shortest pipe may ask for a finer step
-        event = analysis.surge.events[i]
-        return default_duration(event) / resolution_step(event)
-
-    ordered = [(i, whole[i]) for i in sorted(todo, key=lambda i: (-steps(i), i))]
-    # longest first, so that the workers end together
-    return [ordered[j : j + BATCH_EVENTS] for j in range(0, len(ordered), BATCH_EVENTS)]
-
-
-def _same_run(event: ValveEvent) -> tuple:
-    """What decides an event's run: events that agree on it (several fixtures of one type
-    on one point) run once."""
-    return (
-        event.side,
-        event.point,
-        event.flow,
-        event.closure_time,
-        event.critical_time,
-        tuple(event.path),
-        event.protected_by,
-    )
-
-
-def apply_transient(
-    analysis: Analysis, quick_only: bool = True, workers: int | None = None
-) -> None:
-    """Replace the screening peak/min of each (quick) valve event with the simulated ones.
-
-    Events are independent: they run in stacked batches (one vectorised simulation each),
-    and a large building spreads the batches over the machine's cores (forked workers).
-    Events that agree on everything their run depends on run once. An event that is not
-    simulated (``transient_limits``) keeps its screening numbers, and its method says why.
-    Results are applied in event order.
-    """
-    global _WORK
-    wanted = [i for i, e in enumerate(analysis.surge.events) if e.quick or not quick_only]
-    first: dict[tuple, int] = {}
-    for i in wanted:
-        first.setdefault(_same_run(analysis.surge.events[i]), i)
-    todo = sorted(first.values())
-    batches = _batches(analysis, todo)
-    workers = min(workers or os.cpu_count() or 1, 8, len(batches))
-    _WORK = analysis
-    try:
-        if workers > 1 and "fork" in mp.get_all_start_methods():
-            context = mp.get_context("fork")
-            with ProcessPoolExecutor(workers, mp_context=context) as pool:
-                outcomes = list(pool.map(_run_batch, batches))
-        else:
-            outcomes = [_run_batch(batch) for batch in batches]
-    finally:
-        _WORK = None
-    found = {
-        i: out
-        for batch, outs in zip(batches, outcomes, strict=True)
-        for (i, _), out in zip(batch, outs, strict=True)
-    }
-    for index in wanted:
-        event = analysis.surge.events[index]
-        out = found[first[_same_run(event)]]
-        if out.refused is not None:
-            event.method = f"{METHOD_NOT_SIMULATED}: {out.refused}"
-            continue
-        method = METHOD_WHOLE if out.whole else METHOD_PATH
-        if out.notes:
-            method = method + "; " + "; ".join(out.notes)
-        event.method = method
-        event.unprotected_peak = event.peak = out.peak
-        event.surge = out.peak - event.static_max
-        event.min_pressure = out.minimum
-        event.column_separation = out.cavitation
-        event.cavity_at = out.cavity_at
-        event.pipe_peaks = dict(out.pipe_max)

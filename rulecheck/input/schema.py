@@ -32,7 +32,7 @@ except ImportError:  # pragma: no cover - a private helper; without it no shortc
     _json_equal = None
 
 from rulecheck.errors import ProblemCollector
-from rulecheck.loader import Document, JsonPath
+from rulecheck.input.loader import Document, JsonPath
 from rulecheck.resources import data_dir, read_text
 
 SCHEMA_FILE = "layout.schema.json"

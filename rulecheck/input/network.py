@@ -12,7 +12,7 @@ from collections import deque
 from dataclasses import dataclass, field
 
 from rulecheck.errors import ProblemCollector
-from rulecheck.model import Heater, Layout, Pipe
+from rulecheck.input.model import Heater, Layout, Pipe
 
 SERVICES = ("cold", "hot")
 

@@ -2,13 +2,28 @@
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 from functools import cache
+from types import MappingProxyType
+from typing import Any
 
 import yaml
 
 from rulecheck.resources import read_text
 from rulecheck.units import to_si
+
+
+@dataclass(frozen=True)
+class Parameter:
+    """What a shared profile parameter is: label, quantity kind, and the stage that reads it
+    (``analysis``: it shapes computed numbers, set by the profile alone; ``rule``: it only
+    judges, and ``rulecheck.toml`` may override it per rule)."""
+
+    name: str
+    label: str
+    kind: str  # a units kind (pressure, length), or fraction | number | text
+    stage: str
 
 
 @dataclass(frozen=True)
@@ -20,6 +35,12 @@ class Profile:
     surge_limit: float  # gauge [Pa]
     air_chamber_severity: str
     polytropic_exponent: float  # [-]
+    raw: Mapping[str, Any]  # parameter -> its value as the data writes it
+    sources: Mapping[str, str]  # parameter -> its source with its tag
+
+    def value(self, name: str) -> Any:
+        """Parameter ``name`` in SI (a number, or the text of a ``text`` parameter)."""
+        return getattr(self, name)
 
 
 @cache
@@ -37,17 +58,29 @@ def profile_ids() -> list[str]:
 
 
 @cache
+def parameters() -> dict[str, Parameter]:
+    """Every shared profile parameter, by name, in data order."""
+    return {
+        name: Parameter(name, str(v["label"]), str(v["kind"]), str(v["stage"]))
+        for name, v in _raw()["parameters"].items()
+    }
+
+
+@cache
 def get_profile(profile_id: str) -> Profile:
     """The named profile; ``KeyError`` when there is none."""
     raw = _raw()["profiles"][profile_id]
+    value = {name: raw[name]["value"] for name in parameters()}
     return Profile(
         id=profile_id,
         title=raw["title"],
-        fittings_allowance=float(raw["fittings_allowance"]),
-        arrester_distance=to_si(raw["arrester_distance"], "length", "si"),
-        surge_limit=to_si(raw["surge_limit"], "pressure", "si"),
-        air_chamber_severity=raw["air_chamber_severity"],
-        polytropic_exponent=float(raw["polytropic_exponent"]),
+        fittings_allowance=float(value["fittings_allowance"]),
+        arrester_distance=to_si(value["arrester_distance"], "length", "si"),
+        surge_limit=to_si(value["surge_limit"], "pressure", "si"),
+        air_chamber_severity=str(value["air_chamber_severity"]),
+        polytropic_exponent=float(value["polytropic_exponent"]),
+        raw=MappingProxyType(value),
+        sources=MappingProxyType({name: str(raw[name]["source"]) for name in parameters()}),
     )
 
 

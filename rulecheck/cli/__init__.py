@@ -1,0 +1,111 @@
+"""Command line: ``rulecheck check | analyze | simulate | rules | explain | schema``.
+
+One module per command (``check``, ``analyze``, ``simulate``, ``explain``, ``info``), each
+with ``add_parser(sub)`` and ``run(args, console) -> int``, listed in :data:`COMMANDS`.
+``main(argv) -> int`` never raises: input errors print ``file:line:col: error: …`` and
+return :data:`~rulecheck.errors.EXIT_INPUT`; a bug returns
+:data:`~rulecheck.errors.EXIT_INTERNAL` with a one-paragraph message.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+import traceback
+from collections.abc import Callable
+
+from rich.console import Console
+
+from rulecheck import __version__
+from rulecheck.cli import analyze, check, explain, info, simulate
+from rulecheck.cli.common import DEBUG_OPTION, Parser, UsageError, print_input_error
+from rulecheck.errors import EXIT_INPUT, EXIT_INTERNAL, EXIT_INTERRUPTED, InputError, visible
+from rulecheck.files import OutputError
+from rulecheck.report import CAUTION
+
+Run = Callable[[argparse.Namespace, Console], int]
+
+#: command name -> (adds its arguments, runs it), in the order ``--help`` lists them
+COMMANDS: dict[str, tuple[Callable[[argparse._SubParsersAction], None], Run]] = {
+    "check": (check.add_parser, check.run),
+    "analyze": (analyze.add_parser, analyze.run),
+    "simulate": (simulate.add_parser, simulate.run),
+    "rules": (info.add_rules_parser, info.run_rules),
+    "explain": (explain.add_parser, explain.run),
+    "schema": (info.add_schema_parser, info.run_schema),
+}
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = Parser(
+        prog="rulecheck",
+        description="Design-rule checks for building water-supply layouts (YAML).",
+        epilog=CAUTION,
+    )
+    parser.add_argument("--version", action="version", version=f"rulecheck {__version__}")
+    parser.add_argument(
+        DEBUG_OPTION,
+        action="store_true",
+        help="on an internal error (a bug), print the Python traceback too",
+    )
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=Parser)
+    for add, _ in COMMANDS.values():
+        add(sub)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Run the command line; return the exit status (see :mod:`rulecheck.errors`)."""
+    argv = sys.argv[1:] if argv is None else list(argv)
+    try:
+        return _run(argv)
+    except KeyboardInterrupt:
+        print("rulecheck: interrupted", file=sys.stderr)
+        return EXIT_INTERRUPTED
+    except Exception as exc:  # a bug: say so plainly, never as a finding or an input error
+        print(internal_error_message(exc, argv), file=sys.stderr)
+        if DEBUG_OPTION in argv:
+            traceback.print_exception(exc, file=sys.stderr)
+        return EXIT_INTERNAL
+
+
+def internal_error_message(exc: BaseException, argv: list[str]) -> str:
+    """One paragraph: what failed, that it is a bug, how to report it."""
+    command = next((a for a in argv if not a.startswith("-")), "rulecheck")
+    what = "".join(c if c.isprintable() else repr(c)[1:-1] for c in str(exc))[:300]
+    return (
+        f"rulecheck: internal error in '{command}': {type(exc).__name__}"
+        f"{': ' + what if what else ''}. This is a bug in rulecheck {__version__}, not a "
+        "problem with your files, and the run was not completed (exit status "
+        f"{EXIT_INTERNAL}). Please report it to the rulecheck maintainers with the command "
+        f"you ran, the input files if you can share them, and the output of the same "
+        f"command with '{DEBUG_OPTION}' before the command name, which adds the traceback."
+    )
+
+
+def _run(argv: list[str]) -> int:
+    # NO_COLOR (https://no-color.org): no escape codes at all, bold included
+    console = Console(highlight=False, color_system=None if os.environ.get("NO_COLOR") else "auto")
+    try:
+        args = build_parser().parse_args(argv)
+        if args.command is None:
+            build_parser().print_help()
+            return EXIT_INPUT
+        add, run = COMMANDS[args.command]
+        return run(args, console)
+    except UsageError as exc:
+        print(f"{visible(str(exc))}\nTry 'rulecheck --help'.", file=sys.stderr)
+        return EXIT_INPUT
+    except InputError as exc:
+        print_input_error(exc)
+        return EXIT_INPUT
+    except OutputError as exc:
+        print(f"rulecheck: {exc}", file=sys.stderr)
+        return EXIT_INPUT
+    return EXIT_INPUT
+
+
+def main_entry() -> None:
+    """Console-script entry point."""
+    sys.exit(main())

@@ -1,0 +1,78 @@
+"""The output formats of ``rulecheck check``, in one table.
+
+Every format is one function with one signature, ``write(report, stream, colour)``: the
+check report, the text stream to write to, and whether escape codes may be used (only
+``text`` uses them). The command line takes its ``--format`` choices and its dispatch
+from :data:`FORMATS`; to add a format, write its function and add a row.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import TextIO
+
+from rulecheck.errors import InputError
+from rulecheck.findings import Finding
+
+
+@dataclass(frozen=True)
+class CheckReport:
+    """What a ``check`` run found, for the reporters to format (they only read it)."""
+
+    results: list[tuple[str, str, list[Finding]]]  # (path, profile, findings) per file
+    errors: list[InputError]  # files that could not be checked
+    hidden: int | None = None  # findings a baseline hid (None: no baseline)
+    unread: int = 0  # of ``errors``, the files that could not even be read
+
+
+def _text(report: CheckReport, stream: TextIO, colour: bool) -> None:
+    from rich.console import Console
+
+    from rulecheck.report.text import render_check
+
+    console = Console(
+        file=stream,
+        highlight=False,
+        color_system="auto" if colour else None,
+        force_terminal=colour or None,
+    )
+    render_check(
+        console,
+        [(p, f) for p, _, f in report.results],
+        [e.problems[0].path for e in report.errors],
+        report.hidden or 0,
+        report.unread,
+    )
+
+
+def _json(report: CheckReport, stream: TextIO, colour: bool) -> None:
+    from rulecheck.report.json_report import check_document, dumps
+
+    stream.write(dumps(check_document(report.results, report.errors, report.hidden)))
+
+
+def _sarif(report: CheckReport, stream: TextIO, colour: bool) -> None:
+    from rulecheck.report.json_report import dumps
+    from rulecheck.report.sarif import sarif_document
+
+    stream.write(dumps(sarif_document(report.results, report.errors, report.hidden)))
+
+
+@dataclass(frozen=True)
+class Format:
+    name: str
+    summary: str
+    write: Callable[[CheckReport, TextIO, bool], None]
+    #: whether the report says input errors itself (else the CLI prints them on stderr)
+    carries_errors: bool
+
+
+FORMATS: dict[str, Format] = {
+    f.name: f
+    for f in (
+        Format("text", "findings for people, with a summary and the caution", _text, False),
+        Format("json", "findings and input errors as JSON (SI units)", _json, True),
+        Format("sarif", "SARIF 2.1.0 for code-scanning tools", _sarif, True),
+    )
+}
