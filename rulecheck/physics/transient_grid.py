@@ -21,7 +21,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-STANDARD_GRAVITY = 9.80665  # [m/s^2] [S: CGPM 1901 standard gravity]
+from rulecheck.physics.constants import STANDARD_GRAVITY
 
 #: Default largest wave-speed adjustment |a_adj / a - 1| [-]; "a few percent"
 #: [S: engineering-basis §10; 5 % is CP].

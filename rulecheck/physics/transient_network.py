@@ -11,10 +11,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-STANDARD_ATMOSPHERE = 101325.0  # [Pa] [S: ISO 2533]
+from rulecheck.physics.constants import POLYTROPIC_EXPONENT, STANDARD_ATMOSPHERE
+
 WATER_DENSITY_20C = 998.2  # [kg/m^3] [S: LSBU water data, 20 °C; engineering-basis §2]
 VAPOUR_PRESSURE_20C = 2339.0  # absolute [Pa] [S: IAPWS-IF97, 20 °C; engineering-basis §2]
-POLYTROPIC_EXPONENT = 1.2  # [-] [CP: engineering-basis §10]
 
 
 @dataclass(frozen=True)

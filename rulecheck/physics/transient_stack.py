@@ -13,8 +13,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from rulecheck.physics.constants import STANDARD_GRAVITY
 from rulecheck.physics.transient_boundary import ArresterBank, CavityTracker
-from rulecheck.physics.transient_grid import STANDARD_GRAVITY, Grid, steady_node_heads
+from rulecheck.physics.transient_grid import Grid, steady_node_heads
 from rulecheck.physics.transient_network import TransientNetwork, TransientResult
 
 #: Steady continuity must hold at every node but the roots and the valve within
