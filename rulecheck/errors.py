@@ -15,6 +15,7 @@ EXIT_FINDINGS = 1  #: at least one finding reached the threshold
 EXIT_INPUT = 2  #: input or usage error, or an output that cannot or may not be written
 EXIT_INTERNAL = 3  #: internal error: a bug in rulecheck, not a problem with the input
 EXIT_INTERRUPTED = 130  #: interrupted (Ctrl-C): 128 + SIGINT, the shells' convention
+EXIT_BROKEN_PIPE = 141  #: the reader of the output went away (`| head`): 128 + SIGPIPE
 
 MAX_PROBLEMS = 50  #: problems reported per file before the rest are counted only
 

@@ -239,3 +239,12 @@ def _remove(path: str) -> None:
         os.unlink(path)
     except OSError:
         pass
+
+
+def relative_posix(path: str | Path, base: Path | None = None) -> str:
+    """``path`` relative to ``base`` (default: the working folder), with ``/`` separators."""
+    base = base or Path.cwd()
+    try:
+        return Path(os.path.relpath(os.path.abspath(path), os.path.abspath(base))).as_posix()
+    except ValueError:  # another drive on Windows
+        return Path(os.path.abspath(path)).as_posix()

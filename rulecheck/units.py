@@ -234,3 +234,28 @@ def _round(x: float, digits: int) -> str:
     magnitude = math.floor(math.log10(abs(x)))
     decimals = max(0, digits - 1 - magnitude)
     return f"{x:.{decimals}f}"
+
+
+#: the kinds of quantity a limit in the rule data or rulecheck.toml may be
+QUANTITY_KINDS = ("velocity", "pressure", "temperature", "length", "time", "flow", "volume")
+
+
+def quantity_kind(raw: Any) -> str | None:
+    """The kind of quantity a ``"number unit"`` text measures; ``None`` for anything else."""
+    if not isinstance(raw, str) or is_number(raw):
+        return None  # a bare number has no unit, hence no kind
+    for kind in QUANTITY_KINDS:
+        try:
+            to_si(raw, kind, "si")
+        except QuantityError:
+            continue
+        return kind
+    return None
+
+
+def is_number(text: str) -> bool:
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True

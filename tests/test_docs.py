@@ -21,7 +21,6 @@ import yaml
 
 from rulecheck.checks import REGISTRY
 from rulecheck.cli.explain import fill_snippet
-from rulecheck.engine.config import quantity_kind
 from rulecheck.errors import EXIT_INPUT, EXIT_OK
 from rulecheck.input.profiles import profile_ids
 from rulecheck.input.rulebook import rule_specs
@@ -29,6 +28,7 @@ from rulecheck.report.explain import (
     explain_text,
     rules_table,
 )
+from rulecheck.units import quantity_kind
 
 REPO = Path(__file__).resolve().parent.parent
 UREG = pint.UnitRegistry()

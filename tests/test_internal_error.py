@@ -80,3 +80,26 @@ def test_readme_documents_every_exit_status() -> None:
     for name, value in vars(errors).items():
         if name.startswith("EXIT_"):
             assert re.search(rf"\b{value}\b", section[1]), f"{name} = {value} is not documented"
+
+
+def test_a_reader_that_closes_the_pipe_early_is_not_a_bug(tmp_path: Path) -> None:
+    """`rulecheck explain … | head -0`: the reader is gone before anything is written;
+    rulecheck stops quietly with 128 + SIGPIPE, no traceback, no internal-error paragraph."""
+    import os
+    import subprocess
+    import sys
+
+    env = {**os.environ, "PYTHONPATH": str(REPO)}
+    writer = subprocess.Popen(
+        [sys.executable, "-m", "rulecheck", "explain", "surge-peak"],
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        cwd=tmp_path,
+        env=env,
+    )
+    assert writer.stdout is not None and writer.stderr is not None
+    writer.stdout.close()  # the reader goes away before the text is written
+    err = writer.stderr.read().decode()
+    code = writer.wait(timeout=60)
+    assert "Traceback" not in err and "internal error" not in err
+    assert code == errors.EXIT_BROKEN_PIPE

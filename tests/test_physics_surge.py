@@ -12,8 +12,8 @@ from hypothesis import strategies as st
 from iapws import IAPWS97
 from scipy.integrate import solve_ivp
 
+from rulecheck.physics.column import allievi_peak_ratio
 from rulecheck.physics.surge import (
-    allievi_peak_ratio,
     column_separates,
     critical_time,
     joukowsky,

@@ -20,7 +20,7 @@ from rulecheck.analysis import AnalysisOptions, transient_limits
 from rulecheck.analysis.transient_limits import extreme_on_last_step
 from rulecheck.cli import main
 from rulecheck.errors import InputError
-from rulecheck.physics.surge import column_period
+from rulecheck.physics.column import column_period
 from rulecheck.physics.transient import (
     ClosingValve,
     GasArrester,

@@ -32,7 +32,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from rulecheck.physics.surge import column_period
+from rulecheck.physics.column import column_period
 from rulecheck.physics.transient_grid import STANDARD_GRAVITY, steady_node_heads
 from rulecheck.physics.transient_network import TransientNetwork
 

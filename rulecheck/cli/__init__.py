@@ -20,7 +20,14 @@ from rich.console import Console
 from rulecheck import __version__
 from rulecheck.cli import analyze, check, explain, info, simulate
 from rulecheck.cli.common import DEBUG_OPTION, Parser, UsageError, print_input_error
-from rulecheck.errors import EXIT_INPUT, EXIT_INTERNAL, EXIT_INTERRUPTED, InputError, visible
+from rulecheck.errors import (
+    EXIT_BROKEN_PIPE,
+    EXIT_INPUT,
+    EXIT_INTERNAL,
+    EXIT_INTERRUPTED,
+    InputError,
+    visible,
+)
 from rulecheck.files import OutputError
 from rulecheck.report import CAUTION
 
@@ -63,6 +70,16 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("rulecheck: interrupted", file=sys.stderr)
         return EXIT_INTERRUPTED
+    except BrokenPipeError:  # `rulecheck check … | head`: the reader has all it wanted
+        # point stdout at nothing, so that the interpreter's final flush does not fail again
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        try:
+            os.dup2(devnull, sys.stdout.fileno())
+        except (OSError, ValueError):  # stdout is not a real file (a test's capture)
+            pass
+        finally:
+            os.close(devnull)
+        return EXIT_BROKEN_PIPE
     except Exception as exc:  # a bug: say so plainly, never as a finding or an input error
         print(internal_error_message(exc, argv), file=sys.stderr)
         if DEBUG_OPTION in argv:

@@ -16,9 +16,8 @@ from collections import Counter
 from pathlib import Path
 from typing import Any
 
-from rulecheck.engine.config import relative_posix
 from rulecheck.errors import NO_POSITION, InputError, Position
-from rulecheck.files import MAX_BASELINE_BYTES, atomic_output, read_text
+from rulecheck.files import MAX_BASELINE_BYTES, atomic_output, read_text, relative_posix
 from rulecheck.findings import Finding
 from rulecheck.textscan import deep_nesting, digit_limit, long_number
 

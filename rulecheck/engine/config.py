@@ -20,7 +20,6 @@ so :func:`key_positions` finds them by scanning the text).
 
 from __future__ import annotations
 
-import os
 import re
 import tomllib
 from dataclasses import dataclass, field, replace
@@ -32,7 +31,7 @@ import yaml
 
 from rulecheck.engine.context import Settings
 from rulecheck.errors import NO_POSITION, InputError, Position, ProblemCollector
-from rulecheck.files import MAX_CONFIG_BYTES, is_regular_file, read_text
+from rulecheck.files import MAX_CONFIG_BYTES, is_regular_file, read_text, relative_posix
 from rulecheck.findings import SEVERITIES
 from rulecheck.input.plausible import LIMIT_BOUND
 from rulecheck.input.plausible import problem as implausible
@@ -40,15 +39,13 @@ from rulecheck.input.profiles import default_profile_id, get_profile, parameters
 from rulecheck.input.rulebook import RuleSpec, rule_specs
 from rulecheck.suggest import suggest
 from rulecheck.textscan import deep_nesting, digit_limit, long_number
-from rulecheck.units import QuantityError, to_si
+from rulecheck.units import QuantityError, is_number, quantity_kind, to_si
 
 CONFIG_NAME = "rulecheck.toml"
 FAIL_ON = (*SEVERITIES, "never")
 _TOP_KEYS = ("profile", "fail-on", "exclude", "rules")
 _RULE_KEYS = ("enabled", "severity", "limits")
 #: Kinds tried, in order, to learn what a limit in the rule data measures.
-_KINDS = ("velocity", "pressure", "temperature", "length", "time", "flow", "volume")
-
 KeyPath = tuple[str, ...]
 
 
@@ -105,15 +102,6 @@ class Config:
         if self.profile is None or declares_profile(path):
             return None
         return self.profile
-
-
-def relative_posix(path: str | Path, base: Path | None = None) -> str:
-    """``path`` relative to ``base`` (default: the working folder), with ``/`` separators."""
-    base = base or Path.cwd()
-    try:
-        return Path(os.path.relpath(os.path.abspath(path), os.path.abspath(base))).as_posix()
-    except ValueError:  # another drive on Windows
-        return Path(os.path.abspath(path)).as_posix()
 
 
 def find_config(start: Path | None = None) -> Path | None:
@@ -313,7 +301,7 @@ def _limits(spec: RuleSpec, table: Any, key: KeyPath, problem: Any) -> dict[str,
                 )
             continue
         try:
-            if not isinstance(value, str) or _is_number(value):
+            if not isinstance(value, str) or is_number(value):
                 raise QuantityError(f"needs a {kind} with its unit, got {value!r}")
             si = to_si(value, kind, "si")
         except QuantityError as exc:
@@ -344,27 +332,6 @@ def limit_defaults(spec: RuleSpec) -> dict[str, Any]:
         if parameters()[name].stage == "rule":
             names.setdefault(name, profile.raw[name])
     return names
-
-
-def quantity_kind(raw: Any) -> str | None:
-    """The kind of quantity a ``"number unit"`` text measures; ``None`` for anything else."""
-    if not isinstance(raw, str) or _is_number(raw):
-        return None  # a bare number has no unit, hence no kind
-    for kind in _KINDS:
-        try:
-            to_si(raw, kind, "si")
-        except QuantityError:
-            continue
-        return kind
-    return None
-
-
-def _is_number(text: str) -> bool:
-    try:
-        float(text)
-    except ValueError:
-        return False
-    return True
 
 
 def declares_profile(path: Path) -> bool:

@@ -4,10 +4,9 @@ from __future__ import annotations
 
 from typing import Any
 
-from rulecheck.engine.config import quantity_kind
 from rulecheck.input.profiles import get_profile, parameters
 from rulecheck.input.rulebook import RuleSpec, rule_specs
-from rulecheck.units import fmt, to_si
+from rulecheck.units import fmt, quantity_kind, to_si
 
 
 def show_limit(raw: Any, units: str) -> str:

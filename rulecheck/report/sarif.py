@@ -21,8 +21,8 @@ from typing import Any
 from urllib.parse import quote
 
 from rulecheck import __version__
-from rulecheck.engine.config import relative_posix
 from rulecheck.errors import InputError, InputProblem
+from rulecheck.files import relative_posix
 from rulecheck.findings import Finding
 from rulecheck.input.profiles import profile_ids
 from rulecheck.input.rulebook import RuleSpec, rule_specs
