@@ -267,3 +267,26 @@ def test_transient_check_of_every_sample_is_physical(
                         if finding.get("unit") == "Pa" and finding["measured"] is not None:
                             assert finding["measured"] >= lowest - 1.0, finding
     assert seen > 0  # some sample has pressures in its findings
+
+
+@pytest.mark.parametrize("path", sorted(SAMPLES.glob("*.yaml")), ids=lambda p: p.name)
+def test_simulate_of_every_sample_valve_is_physical(
+    path: Path, cli: Callable[..., tuple[int, str, str]]
+) -> None:
+    """``simulate`` (text and JSON, trace included) of the first quick valves of each
+    sample: no pressure below the vapour floor of its service."""
+    floors = _floors(path)
+    quick = [e for e in analyse_file(path).surge.events if e.quick][:3]
+    assert quick, f"{path.name} has no quick-closing valve to simulate"
+    for event in quick:
+        valve = f"{event.fixture.id}:{event.side}"
+        floor = floors[event.side]
+        rc, out, err = cli("simulate", path, "--valve", valve, "--format", "json")
+        assert rc == 0, err
+        run = json.loads(out)
+        pressures = [run["peak_pressure"], run["min_pressure"], *run["trace"]["p"]]
+        pressures += [v for pipe in run["path"].values() for v in pipe.values()]
+        assert min(pressures) >= floor - 1.0, (path.name, valve, min(pressures))
+        rc, text, err = cli("simulate", path, "--valve", valve)
+        assert rc == 0, err
+        assert _assert_text_physical(text, floor, f"simulate {path.name} {valve}") > 0
