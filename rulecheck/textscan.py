@@ -11,7 +11,7 @@ from __future__ import annotations
 import re
 import sys
 
-from rulecheck.errors import NO_POSITION, Position
+from rulecheck.errors import NO_POSITION, InputError, Position
 
 #: Bracket depth reported as "too deep"; configurations and baselines need three or four.
 NESTING_LIMIT = 100
@@ -54,3 +54,18 @@ def deep_nesting(text: str, limit: int = NESTING_LIMIT) -> Position:
         elif token in "]}":
             depth -= 1
     return NO_POSITION
+
+
+def unplaced_error(
+    exc: RecursionError | ValueError, text: str, path: str, language: str, hint: str
+) -> InputError:
+    """The input error, at its spot in ``text``, for what a ``language`` (TOML, JSON) parser
+    raised without a position: brackets nested too deep, or a number past the digit limit."""
+    if isinstance(exc, RecursionError):
+        return InputError.at(path, deep_nesting(text), f"the {language} is nested too deeply", hint)
+    return InputError.at(
+        path,
+        long_number(text) or NO_POSITION,
+        f"a number with more than {digit_limit()} digits",
+        hint,
+    )

@@ -19,7 +19,7 @@ from typing import Any
 from rulecheck.errors import NO_POSITION, InputError, Position
 from rulecheck.files import MAX_BASELINE_BYTES, atomic_output, read_text, relative_posix
 from rulecheck.findings import Finding
-from rulecheck.textscan import deep_nesting, digit_limit, long_number
+from rulecheck.textscan import unplaced_error
 
 BASELINE_VERSION = 1
 
@@ -72,19 +72,9 @@ def read_baseline(source: str | Path) -> Counter[Key]:
             f"not JSON: {exc.msg}",
             "write the baseline again with --write-baseline",
         ) from None
-    except RecursionError:
-        raise InputError.at(
-            name,
-            deep_nesting(text),
-            "the JSON is nested too deeply for a baseline",
-            "write the baseline again with --write-baseline",
-        ) from None
-    except ValueError:  # an integer past Python's digit limit: json gives no position
-        raise InputError.at(
-            name,
-            long_number(text) or NO_POSITION,
-            f"a number with more than {digit_limit()} digits",
-            "write the baseline again with --write-baseline",
+    except (RecursionError, ValueError) as exc:  # json names no position for these
+        raise unplaced_error(
+            exc, text, name, "JSON", "write the baseline again with --write-baseline"
         ) from None
     entries = data.get("findings") if isinstance(data, dict) else None
     if (

@@ -38,7 +38,7 @@ from rulecheck.input.plausible import problem as implausible
 from rulecheck.input.profiles import default_profile_id, get_profile, parameters, profile_ids
 from rulecheck.input.rulebook import RuleSpec, rule_specs
 from rulecheck.suggest import suggest
-from rulecheck.textscan import deep_nesting, digit_limit, long_number
+from rulecheck.textscan import unplaced_error
 from rulecheck.units import QuantityError, is_number, quantity_kind, to_si
 
 CONFIG_NAME = "rulecheck.toml"
@@ -143,19 +143,14 @@ def parse_config(text: str, path: Path, name: str | None = None) -> Config:
         raise InputError.at(
             name, pos, f"TOML syntax: {message}", "fix the TOML at this spot"
         ) from None
-    except RecursionError:
-        raise InputError.at(
+    except (RecursionError, ValueError) as exc:  # tomllib names no position for these
+        raise unplaced_error(
+            exc,
+            text,
             name,
-            deep_nesting(text),
-            "the TOML is nested too deeply",
-            "a configuration needs only a few levels of tables and lists",
-        ) from None
-    except ValueError:  # an integer past Python's digit limit: tomllib gives no position
-        raise InputError.at(
-            name,
-            long_number(text) or NO_POSITION,
-            f"a number with more than {digit_limit()} digits",
-            'write an ordinary number, or a quantity such as "7 ft/s"',
+            "TOML",
+            'write ordinary numbers, a quantity such as "7 ft/s", '
+            "and only the few levels of tables and lists a configuration needs",
         ) from None
     positions = key_positions(text)
     problems = ProblemCollector(name)
