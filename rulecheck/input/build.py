@@ -13,7 +13,13 @@ from collections.abc import Iterable
 from typing import Any
 
 from rulecheck.errors import ProblemCollector
-from rulecheck.input.catalog import Catalog, project_catalog, size_label, wsfu_from
+from rulecheck.input.catalog import (
+    Catalog,
+    project_catalog,
+    resolve_size,
+    size_label,
+    wsfu_from,
+)
 from rulecheck.input.loader import Document
 from rulecheck.input.model import (
     Arrester,
@@ -235,14 +241,23 @@ class _Builder:
                 ),
             )
             return None
-        label = size_label(item["size"])
-        if label not in material.sizes:
+        found, walls = resolve_size(material, item["size"])
+        if found is None:
+            label = size_label(item["size"])
+            if walls:
+                hint = (
+                    f"{material.id} has several walls at this outside diameter: write one of "
+                    + ", ".join(walls)
+                )
+            else:
+                hint = suggest(label, material.sizes, f"the {material.id} size table", what="sizes")
             self.problems.add(
                 self.doc.where((*path, "size")),
                 f"size '{label}' is not in the {material.id} table",
-                suggest(label, material.sizes, f"the {material.id} size table", what="sizes"),
+                hint,
             )
             return None
+        label = found
         fittings = item.get("fittings", self.profile.fittings_allowance)
         if isinstance(fittings, (int, float)) and not isinstance(fittings, bool):
             fittings_length = float(fittings) * length

@@ -26,6 +26,9 @@ class Material:
     modulus_vs_temperature: tuple[tuple[float, float], ...] = ()  # (temperature [K], E [Pa])
     # a size's own rating table where the rating differs by size (copper tube)
     size_ratings: dict[str, tuple[tuple[float, float], ...]] = field(default_factory=dict)
+    # a size's own wall modulus where it differs by size (multilayer pipe: the aluminium share)
+    size_moduli: dict[str, float] = field(default_factory=dict)
+    standard: str = ""  # the product standard the sizes follow (EN 1057, ASTM B88, ...)
 
     def rating_at(self, temperature: float, size: str | None = None) -> float:
         """Allowable working pressure [Pa] at ``temperature`` [K] of ``size`` (its own table
@@ -33,8 +36,11 @@ class Material:
         table = self.size_ratings.get(size, self.pressure_rating) if size else self.pressure_rating
         return _interp(temperature, table)
 
-    def modulus_at(self, temperature: float) -> float:
-        """Wall modulus [Pa] at ``temperature`` [K] where tabled, else the nominal modulus."""
+    def modulus_at(self, temperature: float, size: str | None = None) -> float:
+        """Wall modulus [Pa] of ``size`` where it has its own (no temperature fall applied),
+        else at ``temperature`` [K] where tabled, else the nominal modulus."""
+        if size is not None and size in self.size_moduli:
+            return self.size_moduli[size]
         if not self.modulus_vs_temperature:
             return self.modulus
         return _interp(temperature, self.modulus_vs_temperature)
