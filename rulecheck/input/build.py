@@ -304,6 +304,26 @@ class _Builder:
         occupancy = item.get("occupancy", "private")
         base = ftype.wsfu_public if occupancy == "public" else ftype.wsfu_private
         wsfu = _wsfu_override(item.get("wsfu"), base)
+        flow_default, pressure_default = ftype.flow, ftype.min_pressure
+        demand_units: Wsfu | None = None
+        if self.profile.demand_method == "loading-units":
+            overlay = ftype.profiles.get(self.profile_id)
+            if overlay is None:
+                self.problems.add(
+                    self.doc.where((*path, "type")),
+                    f"fixture type '{ftype.id}' has no loading units for profile "
+                    f"'{self.profile_id}'",
+                    f"add 'profiles: {{{self.profile_id}: {{loading_units: {{cold: 1, hot: 1, "
+                    "total: 1}, flow: 0.1 L/s, min_pressure: 100 kPa}}' to the fixture type, "
+                    "or give this fixture 'loading_units'",
+                )
+                if "loading_units" not in item:
+                    return None
+            else:
+                flow_default, pressure_default = overlay.flow, overlay.min_pressure
+            demand_units = _wsfu_override(
+                item.get("loading_units"), overlay.units if overlay else Wsfu(0.0, 0.0, 0.0)
+            )
         valve = item.get("valve", {})
         vpath = (*path, "valve")
         return Fixture(
@@ -313,13 +333,13 @@ class _Builder:
             hot=hot,
             occupancy=occupancy,
             wsfu=wsfu,
-            flow=self.q(item, path, "flow", "flow", ftype.flow, "fixture-flow", positive=True),
+            flow=self.q(item, path, "flow", "flow", flow_default, "fixture-flow", positive=True),
             min_pressure=self.q(
                 item,
                 path,
                 "min_pressure",
                 "pressure",
-                ftype.min_pressure,
+                pressure_default,
                 "fixture-pressure",
                 nonnegative=True,
             ),
@@ -335,6 +355,7 @@ class _Builder:
             ),
             continuous=bool(item.get("continuous", False)),
             pos=self.doc.where(path),
+            demand_units=demand_units,
         )
 
     def arrester(self, path: tuple, item: dict[str, Any]) -> Arrester:

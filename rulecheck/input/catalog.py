@@ -14,7 +14,7 @@ from typing import Any, TypeVar
 
 from rulecheck.errors import InputError, ProblemCollector
 from rulecheck.input.loader import Document, JsonPath, parse_text
-from rulecheck.input.model import FixtureType, Material, Wsfu
+from rulecheck.input.model import FixtureType, Material, ProfileFixture, Wsfu
 from rulecheck.input.reader import Reader
 from rulecheck.resources import read_text
 
@@ -162,6 +162,27 @@ def read_fixture_type(reader: Reader, entry: dict[str, Any], path: JsonPath) -> 
     closure = q(valve, (*path, "valve"), "closure_time", "time", 1.0, bound="closure-time")
     if flow is None or min_pressure is None or closure is None:
         return None
+    profiles: dict[str, ProfileFixture] = {}
+    for profile_id, block in entry.get("profiles", {}).items():
+        ppath = (*path, "profiles", profile_id)
+        pflow = q(block, ppath, "flow", "flow", flow, bound="fixture-flow", positive=True)
+        ppressure = q(
+            block,
+            ppath,
+            "min_pressure",
+            "pressure",
+            min_pressure,
+            bound="fixture-pressure",
+            nonnegative=True,
+        )
+        if pflow is None or ppressure is None:
+            return None
+        profiles[profile_id] = ProfileFixture(
+            wsfu_from(block["loading_units"]),
+            pflow,
+            ppressure,
+            str(block.get("source", entry["source"])),
+        )
     wsfu = entry["wsfu"]
     private = wsfu.get("private", wsfu)
     public = wsfu.get("public", private)
@@ -178,6 +199,7 @@ def read_fixture_type(reader: Reader, entry: dict[str, Any], path: JsonPath) -> 
         closing=valve.get("closing", "slow"),
         closure_time=closure,
         source=entry["source"],
+        profiles=profiles,
     )
 
 

@@ -63,6 +63,16 @@ class Wsfu:
 
 
 @dataclass(frozen=True)
+class ProfileFixture:
+    """A fixture type's values under a profile that counts demand in its own units (en806)."""
+
+    units: Wsfu  # loading units {cold, hot, total} [LU]
+    flow: float  # [m³/s]
+    min_pressure: float  # [Pa]
+    source: str
+
+
+@dataclass(frozen=True)
 class FixtureType:
     id: str
     name: str
@@ -75,6 +85,7 @@ class FixtureType:
     closing: str  # quick | slow
     closure_time: float  # [s]
     source: str
+    profiles: dict[str, ProfileFixture] = field(default_factory=dict)  # profile id -> values
 
 
 @dataclass(frozen=True)
@@ -145,6 +156,13 @@ class Fixture:
     closure_time: float  # [s]
     continuous: bool
     pos: Position
+    # the fixture units demand is counted in under the layout's profile: WSFU, or LU (en806)
+    demand_units: Wsfu | None = None
+
+    @property
+    def units(self) -> Wsfu:
+        """Fixture units for the demand (the profile's kind; WSFU where none was set)."""
+        return self.wsfu if self.demand_units is None else self.demand_units
 
     def side_point(self, side: str) -> str | None:
         return self.cold if side == "cold" else self.hot
