@@ -236,7 +236,9 @@ class _Builder:
                 suggest(
                     str(item["material"]),
                     self.catalog.materials,
-                    _catalog_file("materials.yaml") + " and this file's materials:",
+                    "`rulecheck catalog`, "
+                    + _catalog_file("materials.yaml")
+                    + " and this file's materials:",
                     {k: m.name for k, m in self.catalog.materials.items()},
                 ),
             )
@@ -250,7 +252,12 @@ class _Builder:
                     + ", ".join(walls)
                 )
             else:
-                hint = suggest(label, material.sizes, f"the {material.id} size table", what="sizes")
+                hint = suggest(
+                    label,
+                    material.sizes,
+                    f"the {material.id} size table (`rulecheck catalog {material.id}`)",
+                    what="sizes",
+                )
             self.problems.add(
                 self.doc.where((*path, "size")),
                 f"size '{label}' is not in the {material.id} table",
@@ -296,7 +303,9 @@ class _Builder:
                 suggest(
                     str(item["type"]),
                     self.catalog.fixture_types,
-                    _catalog_file("fixture-types.yaml") + " and this file's fixture_types:",
+                    "`rulecheck catalog fixtures`, "
+                    + _catalog_file("fixture-types.yaml")
+                    + " and this file's fixture_types:",
                     {k: t.name for k, t in self.catalog.fixture_types.items()},
                 ),
             )
