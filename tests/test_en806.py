@@ -201,3 +201,38 @@ def test_fixture_type_data_carries_en806_sources() -> None:
         source = entry["profiles"]["en806"]["source"]
         assert "[S:" in source or "[CP]" in source or "[D]" in source, entry["id"]
         assert "from memory; verify against the adopted edition" in " ".join(source.split())
+
+
+HOSTILE_SIZES = [
+    "22x", "x1.0", "22x1.0x3", "DN", "DN-25", "0x0", "1e3x1", "99999999999x1", "22,0x1,0",
+    "２２x1.0", "-22x1.0", "22x1.0 in", "22 mm x 1.0 mm x", "\u202e22x1.0", "DN25.5", "",
+]  # fmt: skip
+
+
+@pytest.mark.parametrize("size", HOSTILE_SIZES)
+def test_hostile_sizes_are_clear_errors(tmp_path: Path, cli: Cli, size: str) -> None:
+    path = tmp_path / "h.yaml"
+    path.write_text(LAYOUT.replace("size: 22x1.0,", f"size: {json.dumps(size)},"), encoding="utf-8")
+    rc, _, err = cli("check", path)
+    assert rc == EXIT_INPUT, err
+    assert "h.yaml:14:" in err and "Traceback" not in err
+
+
+def test_project_material_with_a_size_twice_is_refused(tmp_path: Path, cli: Cli) -> None:
+    text = LAYOUT + (
+        "materials:\n"
+        "  - id: my-tube\n"
+        "    modulus: 100 GPa\n"
+        "    poisson: 0.3\n"
+        "    roughness: 0.001 mm\n"
+        "    pressure_rating: [{temperature: 20 degC, pressure: 1 MPa}]\n"
+        "    sizes:\n"
+        '      "22x1": {outside_diameter: 22 mm, wall: 1 mm}\n'
+        '      "22 × 1.0": {outside_diameter: 22 mm, wall: 1.2 mm}\n'
+        "    source: invented for a test\n"
+    )
+    path = tmp_path / "d.yaml"
+    path.write_text(text, encoding="utf-8")
+    rc, _, err = cli("check", path)
+    line = text.splitlines().index('      "22 × 1.0": {outside_diameter: 22 mm, wall: 1.2 mm}') + 1
+    assert rc == EXIT_INPUT and f"d.yaml:{line}:" in err and "same size as 22x1.0" in err

@@ -28,9 +28,11 @@ class Catalog:
     fixture_types: dict[str, FixtureType]
 
 
-_METRIC = re.compile(r"^\s*(\d+(?:\.\d+)?)\s*(?:mm)?\s*[x\u00d7X*]\s*(\d+(?:\.\d+)?)\s*(?:mm)?\s*$")
-_DN = re.compile(r"^\s*DN\s*(\d+)\s*$", re.IGNORECASE)
-_OD = re.compile(r"^\s*(\d+(?:\.\d+)?)\s*(?:mm)?\s*$")
+_METRIC = re.compile(
+    r"^\s*(\d+(?:\.\d+)?)\s*(?:mm)?\s*[x\u00d7X*]\s*(\d+(?:\.\d+)?)\s*(?:mm)?\s*$", re.ASCII
+)
+_DN = re.compile(r"^\s*DN\s*(\d+)\s*$", re.IGNORECASE | re.ASCII)
+_OD = re.compile(r"^\s*(\d+(?:\.\d+)?)\s*(?:mm)?\s*$", re.ASCII)
 
 
 def metric_label(outside: float, wall: float) -> str:
@@ -94,6 +96,14 @@ def read_material(reader: Reader, entry: dict[str, Any], path: JsonPath) -> Mate
         od = q(dims, spath, "outside_diameter", "diameter", positive=True)
         wall = q(dims, spath, "wall", "diameter", positive=True)
         if od is None or wall is None:
+            ok = False
+            continue
+        if size_label(label) in sizes:
+            reader.problems.add(
+                reader.doc.where(spath),
+                f"size {label} is the same size as {size_label(label)} above",
+                "give each size once",
+            )
             ok = False
             continue
         if 2 * wall >= od:
