@@ -150,6 +150,9 @@ def test_metric_layout_checks_in_lu_and_simulates(flat: Path, cli: Cli) -> None:
     assert velocity and all("2.00 m/s limit" in f.message for f in velocity)
     rc, out, _ = cli("analyze", flat)
     assert rc == 0 and " LU " in out and "EN 806-3" in out and "WSFU" not in out
+    rc, out, _ = cli("analyze", flat, "--format", "json")
+    pipe = json.loads(out)["pipes"]["P1"]
+    assert pipe["loading_units"] == 8.0 and "wsfu" not in pipe
     rc, out, _ = cli("simulate", flat, "--valve", "DW", "--format", "json")
     assert rc == 0
     result = json.loads(out)
