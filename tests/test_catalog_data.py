@@ -49,6 +49,16 @@ FIXTURE_IDS = {
 # flushometer tank (pressure-assist closet) is a tank, not a flush valve.
 FLUSH_VALVE_IDS = {"water-closet-flushometer", "urinal-flushometer"}
 CTS_MATERIALS = ("copper-k", "copper-l", "copper-m", "pex-sdr9", "cpvc-sdr11")
+# metric materials (issue 13), checked in tests/test_metric_catalog.py
+METRIC_MATERIALS = (
+    "copper-en1057",
+    "pex-en15875-s3.2",
+    "ppr-en15874-s3.2",
+    "ppr-en15874-s2.5",
+    "multilayer-pert-al",
+    "stainless-en10312",
+    "steel-en10255-m",
+)
 
 
 def _load(name: str, key: str) -> list[dict[str, Any]]:
@@ -300,7 +310,7 @@ def test_ids_unique() -> None:
     fixture_ids = [f["id"] for f in _load("fixture-types.yaml", "fixture_types")]
     assert len(set(material_ids)) == len(material_ids)
     assert len(set(fixture_ids)) == len(fixture_ids)
-    assert set(material_ids) == {*CTS_MATERIALS, "steel-sch40"}
+    assert set(material_ids) == {*CTS_MATERIALS, "steel-sch40", *METRIC_MATERIALS}
 
 
 def test_fixture_id_list() -> None:

@@ -174,3 +174,81 @@ def test_ci_doc_names_the_commands_it_documents() -> None:
         "rulecheck.toml",
     ):
         assert needle in text
+
+
+# --- docs/layout-format.md (issue 13) --------------------------------------------------------
+
+
+def _layout_generator() -> ModuleType:
+    spec = importlib.util.spec_from_file_location(
+        "make_layout_doc", REPO / "scripts" / "make_layout_doc.py"
+    )
+    assert spec and spec.loader
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+def test_layout_doc_is_up_to_date() -> None:
+    expected = _layout_generator().render()
+    current = (REPO / "docs" / "layout-format.md").read_text(encoding="utf-8")
+    assert current == expected, (
+        "docs/layout-format.md is stale: run python scripts/make_layout_doc.py"
+    )
+
+
+def test_layout_doc_check_mode_detects_a_stale_file(tmp_path: Path) -> None:
+    generator = _layout_generator()
+    target = tmp_path / "layout-format.md"
+    assert generator.main([str(target), "--check"]) == 1
+    assert generator.main([str(target)]) == 0
+    assert generator.main([str(target), "--check"]) == 0
+    target.write_text(target.read_text(encoding="utf-8") + "edited\n", encoding="utf-8")
+    assert generator.main([str(target), "--check"]) == 1
+
+
+def _schema_keys(node: dict, path: str, out: list[tuple[str, dict]]) -> None:
+    for key, child in node.get("properties", {}).items():
+        here = f"{path}.{key}" if path else key
+        out.append((here, child))
+        _schema_keys(child, here, out)
+        if child.get("type") == "array":
+            _schema_keys(child.get("items", {}), f"{here}[]", out)
+        if isinstance(child.get("additionalProperties"), dict):
+            _schema_keys(child["additionalProperties"], f"{here}.LABEL", out)
+
+
+def test_every_schema_key_is_described_and_documented() -> None:
+    import json
+
+    schema = json.loads((REPO / "schemas" / "layout.schema.json").read_text(encoding="utf-8"))
+    assert "docs/layout-format.md" in schema["description"]
+    keys: list[tuple[str, dict]] = []
+    _schema_keys(schema, "", keys)
+    doc = (REPO / "docs" / "layout-format.md").read_text(encoding="utf-8")
+    assert len(keys) > 80
+    for path, node in keys:
+        assert node.get("description", "").strip(), f"{path} has no description in the schema"
+        assert f"| `{path}` |" in doc, f"{path} is missing from docs/layout-format.md"
+
+
+def test_layout_doc_lists_the_catalog_and_profiles() -> None:
+    from rulecheck.input.catalog import builtin_catalog
+
+    doc = (REPO / "docs" / "layout-format.md").read_text(encoding="utf-8")
+    for mid in builtin_catalog().materials:
+        assert f"| `{mid}` |" in doc
+    for tid in builtin_catalog().fixture_types:
+        assert f"| `{tid}` |" in doc
+    for pid in profile_ids():
+        assert f"### `{pid}`:" in doc
+
+
+def test_layout_doc_example_checks(tmp_path: Path) -> None:
+    from rulecheck.pipeline import check_file
+
+    path = tmp_path / "example.yaml"
+    path.write_text(_layout_generator().EXAMPLE, encoding="utf-8")
+    result = check_file(path)
+    assert result.profile == "en806"
+    assert result.analysis.layout.pipes[1].size == "25x3.5"

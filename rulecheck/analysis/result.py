@@ -80,7 +80,7 @@ class SteadyState:
     network: Network
     profile: Profile
     water: Mapping[str, WaterProperties]  # "cold" / "hot"
-    wsfu: np.ndarray  # fixture units carried [WSFU]
+    wsfu: np.ndarray  # fixture units carried, in profile.fixture_unit (WSFU or LU)
     fixtures_served: np.ndarray  # count of fixtures downstream [-]
     flow: np.ndarray  # design flow [m³/s]
     velocity: np.ndarray  # [m/s]

@@ -78,7 +78,7 @@ def pipe_wave_speeds(analysis: SteadyState) -> np.ndarray:
         speeds[i] = wave_speed(
             water.bulk_modulus,
             water.density,
-            pipe.material.modulus_at(layout.temperature(pipe.service)),
+            pipe.material.modulus_at(layout.temperature(pipe.service), pipe.size),
             pipe.material.poisson,
             pipe.inner_diameter,
             pipe.wall,

@@ -16,7 +16,12 @@ from rulecheck.input.model import Fixture, Layout
 from rulecheck.input.network import Network, Tree
 from rulecheck.input.profiles import get_profile
 from rulecheck.physics.constants import STANDARD_ATMOSPHERE, STANDARD_GRAVITY
-from rulecheck.physics.demand import demand_flow, flushometer_column, hunter_table
+from rulecheck.physics.demand import (
+    demand_flow,
+    flushometer_column,
+    hunter_table,
+    loading_unit_flow,
+)
 from rulecheck.physics.friction import darcy_pressure_drop
 from rulecheck.physics.water import WaterProperties, water_properties
 
@@ -30,10 +35,14 @@ def steady_state(layout: Layout, network: Network) -> SteadyState:
     }
     n = len(layout.pipes)
     wsfu, served, largest, flush_units, continuous = _accumulate(layout, network)
-    flush = flushometer_column(flush_units, wsfu, layout.demand_curve)
     with np.errstate(divide="ignore", invalid="ignore"):
         share = np.where(wsfu > 0, flush_units / np.where(wsfu > 0, wsfu, 1.0), 0.0)
-    flow = np.asarray(demand_flow(wsfu, flush), dtype=float)
+    if profile.demand_method == "loading-units":  # EN 806-3: LU, no flushometer column
+        flush = np.zeros(n, dtype=bool)
+        flow = np.asarray(loading_unit_flow(wsfu), dtype=float)
+    else:
+        flush = flushometer_column(flush_units, wsfu, layout.demand_curve)
+        flow = np.asarray(demand_flow(wsfu, flush), dtype=float)
     flow = np.where(served == 1, largest, np.maximum(flow, largest))
     flow = np.where(served == 0, 0.0, flow) + continuous
     for i, pipe in enumerate(layout.pipes):
@@ -82,9 +91,9 @@ def steady_state(layout: Layout, network: Network) -> SteadyState:
 
 
 def _accumulate(layout: Layout, network: Network) -> tuple[np.ndarray, ...]:
-    """Fixture units, fixture count, largest fixture flow, fixture units on flushometer
-    valves and continuous flow carried by each pipe, by deposits at nodes summed over
-    subtrees."""
+    """Fixture units (the profile's: WSFU or LU), fixture count, largest fixture flow,
+    fixture units on flushometer valves and continuous flow carried by each pipe, by
+    deposits at nodes summed over subtrees."""
     n = len(layout.pipes)
     wsfu, served = np.zeros(n), np.zeros(n, dtype=int)
     largest, flush, continuous = np.zeros(n), np.zeros(n), np.zeros(n)
@@ -106,14 +115,14 @@ def _accumulate(layout: Layout, network: Network) -> tuple[np.ndarray, ...]:
     for fx in layout.fixtures:
         inlet = inlet_of.get(hot.root_of.get(fx.hot, "")) if fx.hot else None
         if fx.cold:
-            deposit("cold", fx.cold, fx.wsfu.cold, 1, fx)
+            deposit("cold", fx.cold, fx.units.cold, 1, fx)
         if fx.hot:
-            deposit("hot", fx.hot, fx.wsfu.hot, 1, fx)
+            deposit("hot", fx.hot, fx.units.hot, 1, fx)
             if inlet is not None:
-                deposit("cold", inlet, fx.wsfu.hot, 1, fx)
+                deposit("cold", inlet, fx.units.hot, 1, fx)
         if fx.cold and inlet is not None and cold.root_of.get(fx.cold) == cold.root_of.get(inlet):
             meet = _meeting_point(cold, network, fx.cold, inlet)
-            deposit("cold", meet, fx.wsfu.total - fx.wsfu.cold - fx.wsfu.hot, -1, fx)
+            deposit("cold", meet, fx.units.total - fx.units.cold - fx.units.hot, -1, fx)
 
     for service, tree in network.trees.items():
         totals = {node: list(slot) for node, slot in deposits[service].items()}

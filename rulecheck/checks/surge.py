@@ -57,8 +57,9 @@ def _suggestion(ctx: RuleContext, e: ValveEvent) -> str:
     reach = ctx.parameter("arrester_distance")
     units = wsfu_within(ctx.analysis.surge, e.point, e.side, reach)
     cls = smallest_class_for(units) or "F (or several)"
+    basis = "" if ctx.analysis.profile.fixture_unit == "WSFU" else " (PDI-WH 201 classes)"
     return (
-        f"a sealed class {cls} arrester at {e.point} would serve {units:.1f} WSFU "
+        f"a sealed class {cls} arrester at {e.point} would serve {units:.1f} WSFU{basis} "
         f"within {ctx.fmt(reach, 'length')}"
     )
 
@@ -182,8 +183,12 @@ def column_separation(ctx: RuleContext) -> Iterator[Finding]:
 
 def arrester_required(ctx: RuleContext) -> Iterator[Finding]:
     reach = ctx.parameter("arrester_distance")
+    limit = ctx.parameter("surge_limit")
+    # "quick": every quick-closing valve (IPC/UPC); "over-limit": only where the computed
+    # unprotected peak exceeds the design limit (profiles without an arrester rule, en806)
+    only_over = ctx.parameter("arrester_required_when") == "over-limit"
     for e in _events(ctx):
-        if not e.quick or e.protected_by:
+        if not e.quick or e.protected_by or (only_over and e.unprotected_peak <= limit):
             continue
         chambers = (
             f"; air chamber {', '.join(e.nearby_air_chambers)} gives no credit"
@@ -197,7 +202,7 @@ def arrester_required(ctx: RuleContext) -> Iterator[Finding]:
             f"{_fig(ctx, e.unprotected_peak, 'pressure', method_label(e, 'static max + '))}, "
             f"no sealed arrester within {ctx.fmt(reach, 'length')}{chambers}",
             measured=e.unprotected_peak,
-            limit=ctx.parameter("surge_limit"),
+            limit=limit,
             kind="pressure",
             fix=_suggestion(ctx, e),
             method=e.method,

@@ -18,7 +18,7 @@ from collections.abc import Callable
 from rich.console import Console
 
 from rulecheck import __version__
-from rulecheck.cli import analyze, check, explain, info, simulate
+from rulecheck.cli import analyze, catalog, check, explain, info, simulate
 from rulecheck.cli.common import DEBUG_OPTION, Parser, UsageError, print_input_error
 from rulecheck.errors import (
     EXIT_BROKEN_PIPE,
@@ -41,6 +41,7 @@ COMMANDS: dict[str, tuple[Callable[[argparse._SubParsersAction], None], Run]] = 
     "rules": (info.add_rules_parser, info.run_rules),
     "explain": (explain.add_parser, explain.run),
     "schema": (info.add_schema_parser, info.run_schema),
+    "catalog": (catalog.add_parser, catalog.run),
 }
 
 

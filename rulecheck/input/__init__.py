@@ -12,6 +12,7 @@ from pathlib import Path
 
 from rulecheck.errors import ProblemCollector
 from rulecheck.input.build import build_layout
+from rulecheck.input.catalog import Catalog, project_catalog
 from rulecheck.input.loader import load_file
 from rulecheck.input.model import Layout
 from rulecheck.input.rulebook import rule_specs
@@ -25,3 +26,16 @@ def load_layout(path: str | Path, profile: str | None = None) -> Layout:
     validate(doc, problems)
     problems.raise_if_any()
     return build_layout(doc, set(rule_specs()), profile)
+
+
+def load_catalog(path: str | Path) -> tuple[Catalog, str]:
+    """The catalog a layout may use: built-in entries plus the layout's own ``materials`` and
+    ``fixture_types``, and the layout's unit system; raises InputError like load_layout."""
+    doc = load_file(path)
+    problems = ProblemCollector(doc.path)
+    validate(doc, problems)
+    problems.raise_if_any()
+    system = str(doc.data["project"].get("units", "si"))
+    catalog = project_catalog(doc, system, problems)
+    problems.raise_if_any()
+    return catalog, system

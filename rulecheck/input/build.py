@@ -13,7 +13,13 @@ from collections.abc import Iterable
 from typing import Any
 
 from rulecheck.errors import ProblemCollector
-from rulecheck.input.catalog import Catalog, project_catalog, size_label, wsfu_from
+from rulecheck.input.catalog import (
+    Catalog,
+    project_catalog,
+    resolve_size,
+    size_label,
+    wsfu_from,
+)
 from rulecheck.input.loader import Document
 from rulecheck.input.model import (
     Arrester,
@@ -230,19 +236,35 @@ class _Builder:
                 suggest(
                     str(item["material"]),
                     self.catalog.materials,
-                    _catalog_file("materials.yaml") + " and this file's materials:",
+                    "`rulecheck catalog`, "
+                    + _catalog_file("materials.yaml")
+                    + " and this file's materials:",
                     {k: m.name for k, m in self.catalog.materials.items()},
                 ),
             )
             return None
-        label = size_label(item["size"])
-        if label not in material.sizes:
+        found, walls = resolve_size(material, item["size"])
+        if found is None:
+            label = size_label(item["size"])
+            if walls:
+                hint = (
+                    f"{material.id} has several walls at this outside diameter: write one of "
+                    + ", ".join(walls)
+                )
+            else:
+                hint = suggest(
+                    label,
+                    material.sizes,
+                    f"the {material.id} size table (`rulecheck catalog {material.id}`)",
+                    what="sizes",
+                )
             self.problems.add(
                 self.doc.where((*path, "size")),
                 f"size '{label}' is not in the {material.id} table",
-                suggest(label, material.sizes, f"the {material.id} size table", what="sizes"),
+                hint,
             )
             return None
+        label = found
         fittings = item.get("fittings", self.profile.fittings_allowance)
         if isinstance(fittings, (int, float)) and not isinstance(fittings, bool):
             fittings_length = float(fittings) * length
@@ -281,7 +303,9 @@ class _Builder:
                 suggest(
                     str(item["type"]),
                     self.catalog.fixture_types,
-                    _catalog_file("fixture-types.yaml") + " and this file's fixture_types:",
+                    "`rulecheck catalog fixtures`, "
+                    + _catalog_file("fixture-types.yaml")
+                    + " and this file's fixture_types:",
                     {k: t.name for k, t in self.catalog.fixture_types.items()},
                 ),
             )
@@ -289,6 +313,26 @@ class _Builder:
         occupancy = item.get("occupancy", "private")
         base = ftype.wsfu_public if occupancy == "public" else ftype.wsfu_private
         wsfu = _wsfu_override(item.get("wsfu"), base)
+        flow_default, pressure_default = ftype.flow, ftype.min_pressure
+        demand_units: Wsfu | None = None
+        if self.profile.demand_method == "loading-units":
+            overlay = ftype.profiles.get(self.profile_id)
+            if overlay is None:
+                self.problems.add(
+                    self.doc.where((*path, "type")),
+                    f"fixture type '{ftype.id}' has no loading units for profile "
+                    f"'{self.profile_id}'",
+                    f"add 'profiles: {{{self.profile_id}: {{loading_units: {{cold: 1, hot: 1, "
+                    "total: 1}, flow: 0.1 L/s, min_pressure: 100 kPa}}' to the fixture type, "
+                    "or give this fixture 'loading_units'",
+                )
+                if "loading_units" not in item:
+                    return None
+            else:
+                flow_default, pressure_default = overlay.flow, overlay.min_pressure
+            demand_units = _wsfu_override(
+                item.get("loading_units"), overlay.units if overlay else Wsfu(0.0, 0.0, 0.0)
+            )
         valve = item.get("valve", {})
         vpath = (*path, "valve")
         return Fixture(
@@ -298,13 +342,13 @@ class _Builder:
             hot=hot,
             occupancy=occupancy,
             wsfu=wsfu,
-            flow=self.q(item, path, "flow", "flow", ftype.flow, "fixture-flow", positive=True),
+            flow=self.q(item, path, "flow", "flow", flow_default, "fixture-flow", positive=True),
             min_pressure=self.q(
                 item,
                 path,
                 "min_pressure",
                 "pressure",
-                ftype.min_pressure,
+                pressure_default,
                 "fixture-pressure",
                 nonnegative=True,
             ),
@@ -320,6 +364,7 @@ class _Builder:
             ),
             continuous=bool(item.get("continuous", False)),
             pos=self.doc.where(path),
+            demand_units=demand_units,
         )
 
     def arrester(self, path: tuple, item: dict[str, Any]) -> Arrester:

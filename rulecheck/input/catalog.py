@@ -6,6 +6,7 @@ explicit units; project-local ones may use bare numbers in the project's units.
 
 from __future__ import annotations
 
+import re
 from collections.abc import Callable
 from dataclasses import dataclass
 from functools import cache
@@ -13,7 +14,7 @@ from typing import Any, TypeVar
 
 from rulecheck.errors import InputError, ProblemCollector
 from rulecheck.input.loader import Document, JsonPath, parse_text
-from rulecheck.input.model import FixtureType, Material, Wsfu
+from rulecheck.input.model import FixtureType, Material, ProfileFixture, Wsfu
 from rulecheck.input.reader import Reader
 from rulecheck.resources import read_text
 
@@ -27,8 +28,23 @@ class Catalog:
     fixture_types: dict[str, FixtureType]
 
 
+_METRIC = re.compile(
+    r"^\s*(\d+(?:\.\d+)?)\s*(?:mm)?\s*[x\u00d7X*]\s*(\d+(?:\.\d+)?)\s*(?:mm)?\s*$", re.ASCII
+)
+_DN = re.compile(r"^\s*DN\s*(\d+)\s*$", re.IGNORECASE | re.ASCII)
+_OD = re.compile(r"^\s*(\d+(?:\.\d+)?)\s*(?:mm)?\s*$", re.ASCII)
+
+
+def metric_label(outside: float, wall: float) -> str:
+    """The canonical label of a metric size: ``22x1.0``, ``66.7x1.2`` (diameter and wall in mm;
+    the wall with at least one decimal, as the trade writes it)."""
+    return f"{outside:g}x{wall:.1f}" if round(wall, 1) == wall else f"{outside:g}x{wall:g}"
+
+
 def size_label(value: Any) -> str:
-    """Normalise a size label: ``1`` and ``"1"`` are the same size; ``1.5`` reads as ``1-1/2``."""
+    """Normalise a size label: ``1`` and ``"1"`` are the same size; ``1.5`` reads as ``1-1/2``;
+    metric sizes as the trade writes them, ``22x1``, ``22 × 1.0``, ``22x1.0 mm`` read as
+    ``22x1.0``; ``dn25`` and ``DN 25`` read as ``DN25``."""
     if isinstance(value, float) and value.is_integer():
         value = int(value)
     if isinstance(value, float):
@@ -38,7 +54,31 @@ def size_label(value: Any) -> str:
                 num = round(frac * den)
                 part = f"{num}/{den}" if num else ""
                 return f"{int(whole)}-{part}" if whole else part
-    return str(value).strip()
+    text = str(value).strip()
+    if m := _METRIC.match(text):
+        return metric_label(float(m.group(1)), float(m.group(2)))
+    if m := _DN.match(text):
+        return f"DN{int(m.group(1))}"
+    return text
+
+
+def resolve_size(material: Material, value: Any) -> tuple[str | None, list[str]]:
+    """The size of ``material`` that ``value`` names, and the candidates when it names none.
+
+    A label of the table (after :func:`size_label`) names itself. An outside diameter alone
+    (``20``, ``"20 mm"``) names the one size of a metric table with that diameter; where
+    several walls share it, nothing is chosen and the candidates are returned."""
+    label = size_label(value)
+    if label in material.sizes:
+        return label, []
+    m = _OD.match(str(value))
+    if m is None:
+        return None, []
+    outside = float(m.group(1)) / 1000.0
+    same = [k for k, (od, _) in material.sizes.items() if "x" in k and abs(od - outside) < 1e-7]
+    if len(same) == 1:
+        return same[0], []
+    return None, sorted(same, key=lambda k: material.sizes[k][1])
 
 
 def read_material(reader: Reader, entry: dict[str, Any], path: JsonPath) -> Material | None:
@@ -49,6 +89,7 @@ def read_material(reader: Reader, entry: dict[str, Any], path: JsonPath) -> Mate
     moduli = _table(reader, entry, path, "modulus_vs_temperature", "modulus")
     sizes: dict[str, tuple[float, float]] = {}
     size_ratings: dict[str, tuple[tuple[float, float], ...]] = {}
+    size_moduli: dict[str, float] = {}
     ok = True
     for label, dims in entry.get("sizes", {}).items():
         spath = (*path, "sizes", label)
@@ -57,11 +98,25 @@ def read_material(reader: Reader, entry: dict[str, Any], path: JsonPath) -> Mate
         if od is None or wall is None:
             ok = False
             continue
+        if size_label(label) in sizes:
+            reader.problems.add(
+                reader.doc.where(spath),
+                f"size {label} is the same size as {size_label(label)} above",
+                "give each size once",
+            )
+            ok = False
+            continue
         if 2 * wall >= od:
             reader.problems.add(reader.doc.where(spath), f"size {label}: the wall leaves no bore")
             ok = False
             continue
         sizes[size_label(label)] = (od, wall)
+        if "modulus" in dims:
+            own_modulus = q(dims, spath, "modulus", "pressure", positive=True)
+            if own_modulus is None:
+                ok = False
+            else:
+                size_moduli[size_label(label)] = own_modulus
         if "pressure_rating" in dims:
             own = _table(reader, dims, spath, "pressure_rating", "pressure")
             if own is None:
@@ -82,6 +137,8 @@ def read_material(reader: Reader, entry: dict[str, Any], path: JsonPath) -> Mate
         source=entry["source"],
         modulus_vs_temperature=moduli,
         size_ratings=size_ratings,
+        size_moduli=size_moduli,
+        standard=str(entry.get("standard", "")),
     )
 
 
@@ -115,6 +172,27 @@ def read_fixture_type(reader: Reader, entry: dict[str, Any], path: JsonPath) -> 
     closure = q(valve, (*path, "valve"), "closure_time", "time", 1.0, bound="closure-time")
     if flow is None or min_pressure is None or closure is None:
         return None
+    profiles: dict[str, ProfileFixture] = {}
+    for profile_id, block in entry.get("profiles", {}).items():
+        ppath = (*path, "profiles", profile_id)
+        pflow = q(block, ppath, "flow", "flow", flow, bound="fixture-flow", positive=True)
+        ppressure = q(
+            block,
+            ppath,
+            "min_pressure",
+            "pressure",
+            min_pressure,
+            bound="fixture-pressure",
+            nonnegative=True,
+        )
+        if pflow is None or ppressure is None:
+            return None
+        profiles[profile_id] = ProfileFixture(
+            wsfu_from(block["loading_units"]),
+            pflow,
+            ppressure,
+            str(block.get("source", entry["source"])),
+        )
     wsfu = entry["wsfu"]
     private = wsfu.get("private", wsfu)
     public = wsfu.get("public", private)
@@ -131,6 +209,7 @@ def read_fixture_type(reader: Reader, entry: dict[str, Any], path: JsonPath) -> 
         closing=valve.get("closing", "slow"),
         closure_time=closure,
         source=entry["source"],
+        profiles=profiles,
     )
 
 

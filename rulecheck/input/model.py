@@ -26,6 +26,9 @@ class Material:
     modulus_vs_temperature: tuple[tuple[float, float], ...] = ()  # (temperature [K], E [Pa])
     # a size's own rating table where the rating differs by size (copper tube)
     size_ratings: dict[str, tuple[tuple[float, float], ...]] = field(default_factory=dict)
+    # a size's own wall modulus where it differs by size (multilayer pipe: the aluminium share)
+    size_moduli: dict[str, float] = field(default_factory=dict)
+    standard: str = ""  # the product standard the sizes follow (EN 1057, ASTM B88, ...)
 
     def rating_at(self, temperature: float, size: str | None = None) -> float:
         """Allowable working pressure [Pa] at ``temperature`` [K] of ``size`` (its own table
@@ -33,8 +36,11 @@ class Material:
         table = self.size_ratings.get(size, self.pressure_rating) if size else self.pressure_rating
         return _interp(temperature, table)
 
-    def modulus_at(self, temperature: float) -> float:
-        """Wall modulus [Pa] at ``temperature`` [K] where tabled, else the nominal modulus."""
+    def modulus_at(self, temperature: float, size: str | None = None) -> float:
+        """Wall modulus [Pa] of ``size`` where it has its own (no temperature fall applied),
+        else at ``temperature`` [K] where tabled, else the nominal modulus."""
+        if size is not None and size in self.size_moduli:
+            return self.size_moduli[size]
         if not self.modulus_vs_temperature:
             return self.modulus
         return _interp(temperature, self.modulus_vs_temperature)
@@ -57,6 +63,16 @@ class Wsfu:
 
 
 @dataclass(frozen=True)
+class ProfileFixture:
+    """A fixture type's values under a profile that counts demand in its own units (en806)."""
+
+    units: Wsfu  # loading units {cold, hot, total} [LU]
+    flow: float  # [m³/s]
+    min_pressure: float  # [Pa]
+    source: str
+
+
+@dataclass(frozen=True)
 class FixtureType:
     id: str
     name: str
@@ -69,6 +85,7 @@ class FixtureType:
     closing: str  # quick | slow
     closure_time: float  # [s]
     source: str
+    profiles: dict[str, ProfileFixture] = field(default_factory=dict)  # profile id -> values
 
 
 @dataclass(frozen=True)
@@ -139,6 +156,13 @@ class Fixture:
     closure_time: float  # [s]
     continuous: bool
     pos: Position
+    # the fixture units demand is counted in under the layout's profile: WSFU, or LU (en806)
+    demand_units: Wsfu | None = None
+
+    @property
+    def units(self) -> Wsfu:
+        """Fixture units for the demand (the profile's kind; WSFU where none was set)."""
+        return self.wsfu if self.demand_units is None else self.demand_units
 
     def side_point(self, side: str) -> str | None:
         return self.cold if side == "cold" else self.hot

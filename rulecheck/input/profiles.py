@@ -35,8 +35,15 @@ class Profile:
     surge_limit: float  # gauge [Pa]
     air_chamber_severity: str
     polytropic_exponent: float  # [-]
+    arrester_required_when: str  # quick (every quick-closing valve) | over-limit
+    demand_method: str  # hunter (WSFU, IPC Table E103.3(3)) | loading-units (LU, EN 806-3)
     raw: Mapping[str, Any]  # parameter -> its value as the data writes it
     sources: Mapping[str, str]  # parameter -> its source with its tag
+
+    @property
+    def fixture_unit(self) -> str:
+        """The name of the fixture units the profile counts demand in: ``WSFU`` or ``LU``."""
+        return "LU" if self.demand_method == "loading-units" else "WSFU"
 
     def value(self, name: str) -> Any:
         """Parameter ``name`` in SI (a number, or the text of a ``text`` parameter)."""
@@ -79,6 +86,8 @@ def get_profile(profile_id: str) -> Profile:
         surge_limit=to_si(value["surge_limit"], "pressure", "si"),
         air_chamber_severity=str(value["air_chamber_severity"]),
         polytropic_exponent=float(value["polytropic_exponent"]),
+        arrester_required_when=str(value["arrester_required_when"]),
+        demand_method=str(value["demand_method"]),
         raw=MappingProxyType(value),
         sources=MappingProxyType({name: str(raw[name]["source"]) for name in parameters()}),
     )

@@ -45,6 +45,12 @@ def _residual(value: float, units: str) -> str:
 
 def demand_curve_line(analysis: Analysis) -> str:
     """How fixture units became flow: the project's choice and, under auto, the rule."""
+    if analysis.profile.fixture_unit == "LU":
+        return (
+            f"Demand: loading units (LU) of profile {analysis.profile.id}, EN 806-3 simplified "
+            "method, 1 LU = 0.1 L/s; design flow from total LU (rules/loading-units.yaml), "
+            "at least the largest single fixture flow"
+        )
     if analysis.demand_curve != "auto":
         return (
             f"Demand curve: the {analysis.demand_curve} column of IPC Table E103.3(3) for every "
@@ -68,6 +74,8 @@ def pipe_curve(analysis: Analysis, index: int) -> str:
         return "-"
     if analysis.fixtures_served[index] == 1:
         return "one fixture"
+    if analysis.profile.fixture_unit == "LU":
+        return "EN 806-3"
     return "flushometer" if analysis.flushometer_column[index] else "flush-tank"
 
 
@@ -76,7 +84,7 @@ def render_analysis(analysis: Analysis) -> str:
     lab = {k: unit_label(k, units) for k in ("flow", "velocity", "pressure", "length")}
     out = [f"{layout.name}  ({layout.path}, profile {layout.profile}, units {units})", ""]
     out += [demand_curve_line(analysis), ""]
-    auto = analysis.demand_curve == "auto"
+    auto = analysis.demand_curve == "auto" and analysis.profile.fixture_unit == "WSFU"
     rows = []
     speeds = analysis.surge.wave_speed if analysis.surge is not None else None
     for i, p in enumerate(layout.pipes):
@@ -99,7 +107,7 @@ def render_analysis(analysis: Analysis) -> str:
             "pipe",
             "service",
             "size",
-            "WSFU",
+            analysis.profile.fixture_unit,
             f"flow [{lab['flow']}]",
             f"velocity [{lab['velocity']}]",
             f"friction [{lab['pressure']}]",

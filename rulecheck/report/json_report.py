@@ -89,12 +89,13 @@ def analysis_document(analysis: Analysis) -> dict[str, Any]:
     layout = analysis.layout
     wave_speed = analysis.surge.wave_speed if analysis.surge is not None else None
     pipes: dict[str, Any] = {}
+    units_key = "wsfu" if analysis.profile.fixture_unit == "WSFU" else "loading_units"
     for i, pipe in enumerate(layout.pipes):
         entry = {
             "flow": _clean(float(analysis.flow[i])),
             "velocity": _clean(float(analysis.velocity[i])),
             "head_loss": _clean(float(analysis.friction_drop[i])),
-            "wsfu": _clean(float(analysis.wsfu[i])),
+            units_key: _clean(float(analysis.wsfu[i])),
             "demand_curve": pipe_curve(analysis, i),
             "flushometer_share": _clean(float(analysis.flushometer_share[i])),
         }
