@@ -32,6 +32,10 @@ _OURS_HEAD = (
         rb'"driver":\s*\{\s*"name":\s*"rulecheck"',
         re.DOTALL,
     ),
+    re.compile(
+        rb'\A<!DOCTYPE html>\s*<html lang="en">\s*<head>\s*<meta charset="utf-8">\s*'
+        rb'<meta name="generator" content="rulecheck '
+    ),  # --format html
 )
 _OURS_TAIL = re.compile(rb"\d+ files? checked: [^\n]*\n(?:[^\n]*\n)?Caution: [^\n]*\n?\Z")  # text
 _SNIFF = 4096
