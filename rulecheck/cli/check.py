@@ -34,7 +34,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     check.add_argument(
         "--output",
         metavar="FILE",
-        help="write the report to FILE, not stdout (a folder: <layout>.html, .json, ... in it)",
+        help="write the report to FILE, not stdout (html: a folder gets <layout>.html)",
     )
     check.add_argument(
         "--fail-on",
@@ -115,7 +115,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
     if not paths:
         raise UsageError("rulecheck check: no layout files (*.yaml, *.yml) found")
     chosen = FORMATS[args.format]
-    args.output = output_in_folder(args.output, paths, chosen.suffix)
+    if chosen.detail:  # a folder gets <layout>.html (other formats name their file)
+        args.output = output_in_folder(args.output, paths, chosen.suffix)
     refuse_overwrite(args, paths, config.path)
     date = report_date() if chosen.detail else ""
     details: dict[str, Any] = {}

@@ -217,11 +217,12 @@ def _edge(
             f'<text class="lbl" transform="translate({lx:.1f} {ly:.1f}) rotate(-90)" '
             f'text-anchor="middle">{escape(label)}</text>'
         )
-    else:
-        lx = (parent.x + child.x) / 2 if child.x != parent.x else child.x + 4
+    else:  # along the run, from the child's end (siblings share the run)
+        right = child.x > parent.x
+        lx = child.x + (-6 if right else 6)
         text = (
             f'<text class="lbl" x="{lx:.1f}" y="{parent.y - 4:.1f}" '
-            f'text-anchor="{"middle" if child.x != parent.x else "start"}">{escape(label)}</text>'
+            f'text-anchor="{"end" if right else "start"}">{escape(label)}</text>'
         )
     return _wrap(ident, "pipe", body + text, marked, f"pipe {label} ({service})")
 

@@ -13,7 +13,7 @@ import numpy as np
 from rulecheck.report.svg_drawing import SEVERITY_COLOUR
 
 W, H = 640.0, 300.0
-LEFT, RIGHT, TOP, BOTTOM = 64.0, 150.0, 16.0, 42.0
+LEFT, RIGHT, TOP, BOTTOM = 64.0, 178.0, 16.0, 42.0
 #: a trace is thinned to at most this many columns (each keeps its min and max, so no
 #: peak is lost) before it becomes a polyline
 MOST_COLUMNS = 600
@@ -158,11 +158,18 @@ def time_plot(
         [
             ("trace", TRACE, "as simulated"),
             ("peak", TRACE, "judged peak"),
-            ("limit", LIMIT, "design limit"),
-            ("rating", RATING, "pipe rating"),
+            ("limit", LIMIT, f"design limit {limit:.0f}"),
+            ("rating", RATING, _rating_key(rating, frame)),
         ]
     )
     return _svg("time", title, body)
+
+
+def _rating_key(rating: float, frame: _Frame) -> str:
+    if not math.isfinite(rating):
+        return "pipe rating: none"
+    shown = f"pipe rating {rating:.0f}"
+    return shown if rating <= frame.y1 else shown + " (above)"
 
 
 def envelope_plot(
@@ -205,8 +212,8 @@ def envelope_plot(
         [
             ("env-max", TRACE, "maximum"),
             ("env-min", MIN_COLOUR, "minimum"),
-            ("limit", LIMIT, "design limit"),
-            ("rating", RATING, "pipe rating"),
+            ("limit", LIMIT, f"design limit {limit:.0f}"),
+            ("rating", RATING, _rating_key(min(p[5] for p in pipes), frame)),
         ]
     )
     return _svg("envelope", title, body)
