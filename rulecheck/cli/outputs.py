@@ -37,7 +37,10 @@ _OURS_HEAD = (
         rb'<meta name="generator" content="rulecheck '
     ),  # --format html
 )
-_OURS_TAIL = re.compile(rb"\d+ files? checked: [^\n]*\n(?:[^\n]*\n)?Caution: [^\n]*\n?\Z")  # text
+# text and lines: the summary and the caution end the report (wrapped to the width)
+_OURS_TAIL = re.compile(
+    rb"\d+ files? checked: [^\n]*(?:\n[^\n]*){0,4}\nCaution: [^\n]*(?:\n[^\n]*){0,24}\n?\Z"
+)
 _SNIFF = 4096
 
 

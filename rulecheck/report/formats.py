@@ -51,6 +51,19 @@ def _text(report: CheckReport, stream: TextIO, colour: bool) -> None:
     )
 
 
+def _lines(report: CheckReport, stream: TextIO, colour: bool) -> None:
+    from rulecheck.report.text import render_lines
+
+    stream.write(
+        render_lines(
+            [(p, f) for p, _, f in report.results],
+            [e.problems[0].path for e in report.errors],
+            report.hidden or 0,
+            report.unread,
+        )
+    )
+
+
 def _json(report: CheckReport, stream: TextIO, colour: bool) -> None:
     from rulecheck.report.json_report import check_document, dumps
 
@@ -95,6 +108,12 @@ FORMATS: dict[str, Format] = {
     f.name: f
     for f in (
         Format("text", "findings for people, with a summary and the caution", _text, False),
+        Format(
+            "lines",
+            "one line per finding, path:line:col: severity: rule-id: message (editors, grep)",
+            _lines,
+            False,
+        ),
         Format("json", "findings and input errors as JSON (SI units)", _json, True, False, ".json"),
         Format("sarif", "SARIF 2.1.0 for code-scanning tools", _sarif, True, False, ".sarif"),
         Format(
