@@ -247,7 +247,7 @@ def _browse(tmp_path: Path, page: Path, *mode: str) -> subprocess.CompletedProce
 
 #: what chromium's log says when a page logs an error or fails to fetch something
 CONSOLE_TROUBLE = re.compile(
-    r"CONSOLE\(\d+\)|Uncaught|Failed to load resource|net::ERR_|Not allowed to load", re.I
+    r"CONSOLE[:(]|Uncaught|Failed to load resource|net::ERR_|Not allowed to load", re.I
 )
 
 
@@ -283,3 +283,39 @@ def test_in_chromium(
     assert data.startswith(b"%PDF-")
     count = len(re.findall(rb"/Type\s*/Page(?![a-z])", data))
     assert pages[0] <= count <= pages[1], count
+
+
+def test_simulate_html_plot_with_the_run_parameters(cli: Cli, tmp_path: Path) -> None:
+    args = ("simulate", SAMPLES / "corner-bistro.yaml", "--valve", "DW1", "--format")
+    rc, page, err = cli(*args, "html")
+    assert rc == 0, err
+    assert cli(*args, "html")[1] == page  # same input, same bytes
+    rc, raw, _ = cli(*args, "json")
+    run = json.loads(raw)
+    dom = _dom(page)
+    assert dom.plots == ["plot time", "plot envelope"]
+    assert dom.scripts == 0 and all(u.startswith("#") for u in dom.urls)
+    assert f"dt {run['dt'] * 1000:.3f} ms" in page
+    assert "largest wave-speed adjustment" in page and "reaches" in page
+    # the envelope names every pipe of the path the JSON lists
+    for pipe in run["path"]:
+        assert f">{pipe}</text>" in page
+    out = tmp_path / "dw1.html"
+    out.write_text(page, encoding="utf-8")
+    _chromium()
+    shown = _browse(tmp_path, out, "--dump-dom")
+    assert shown.returncode == 0 and not CONSOLE_TROUBLE.search(shown.stderr)
+    assert _dom(shown.stdout).plots == ["plot time", "plot envelope"]
+
+
+def test_the_console_check_catches_an_error(tmp_path: Path) -> None:
+    """The console check can fail: a page that logs an error is caught (and a page of
+    ours has no URL to fetch at all, checked on every report above)."""
+    _chromium()
+    bad = tmp_path / "bad.html"
+    bad.write_text(
+        '<!DOCTYPE html><html><body><script>console.error("boom")</script></body></html>',
+        encoding="utf-8",
+    )
+    shown = _browse(tmp_path, bad, "--dump-dom")
+    assert CONSOLE_TROUBLE.search(shown.stderr), shown.stderr[-1000:]

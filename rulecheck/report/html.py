@@ -40,18 +40,21 @@ class FileDetail:
 
 
 @cache
-def _template() -> Any:
+def _template(name: str = "check.html.j2") -> Any:
     import jinja2
 
+    def load(template: str) -> str:
+        return (files("rulecheck.report") / "templates" / template).read_text("utf-8")
+
     env = jinja2.Environment(
+        loader=jinja2.FunctionLoader(load),
         autoescape=True,
         undefined=jinja2.StrictUndefined,
         trim_blocks=True,
         lstrip_blocks=True,
         keep_trailing_newline=True,
     )
-    text = (files("rulecheck.report") / "templates" / "check.html.j2").read_text("utf-8")
-    return env.from_string(text)
+    return env.get_template(name)
 
 
 def _quantity(value: float | None, kind: str | None, units: str) -> str:
@@ -347,6 +350,37 @@ def render_html(
             files=contexts,
             errors=[{"path": e.problems[0].path, "problems": list(e.problems)} for e in errors],
             references=sorted(refs.items(), key=lambda kv: kv[1]),
+            caution=CAUTION,
+            version=__version__,
+            date=date,
+            colours=SEVERITY_COLOUR,
+        )
+    )
+
+
+def render_simulation(
+    stream: TextIO,
+    analysis: Analysis,
+    trace: ValveTrace,
+    model: str,
+    digest: str,
+    cavities: str,
+    date: str,
+) -> None:
+    """``simulate --format html``: the plot and envelope of one valve with the run's
+    parameters."""
+    layout = analysis.layout
+    (plot,) = _plots(analysis, (trace,))
+    stream.write(
+        _template("simulate.html.j2").render(
+            name=layout.name,
+            profile=layout.profile,
+            path=layout.path,
+            digest=digest,
+            valve=f"{trace.fixture} ({trace.side}) at {trace.point}",
+            model=model,
+            plot=plot,
+            cavities=cavities,
             caution=CAUTION,
             version=__version__,
             date=date,
