@@ -17,7 +17,7 @@ from dataclasses import dataclass, field
 from html import escape
 
 from rulecheck.findings import SEVERITY_RANK
-from rulecheck.input.model import Layout
+from rulecheck.input.model import Layout, Pipe
 
 #: colours of our own, also used by the page's stylesheet (report/templates)
 SEVERITY_COLOUR = {
@@ -39,6 +39,7 @@ MARGIN = 40.0
 class _Node:
     id: str
     kind: str  # supply | point | fixture | arrester
+    elevation: float = 0.0  # [m] (points and supplies)
     y: float = 0.0
     x: float = 0.0
     children: list[tuple[str, str]] = field(default_factory=list)  # (edge id, child node key)
@@ -48,16 +49,15 @@ def _key(kind: str, ident: str, side: str = "") -> str:
     return f"{kind}:{ident}:{side}"
 
 
-def drawing(layout: Layout, marked: Mapping[str, str]) -> str:
-    """The SVG of ``layout``; ``marked`` maps element id -> its worst severity."""
+def drawing(layout: Layout, marked: Mapping[str, str]) -> list[tuple[str, str]]:
+    """The sheets of ``layout`` as (supply, SVG), one per supply (a riser system) and one
+    for points no supply feeds; ``marked`` maps element id -> its worst severity."""
     nodes: dict[str, _Node] = {}
     edges: dict[str, tuple[str, str, str, str]] = {}  # edge key -> (kind, id, service, label)
-    elevation = {p.id: p.elevation for p in layout.points}
-    elevation.update({s.id: s.elevation for s in layout.supplies})
     for s in layout.supplies:
-        nodes[_key("n", s.id)] = _Node(s.id, "supply")
+        nodes[_key("n", s.id)] = _Node(s.id, "supply", s.elevation)
     for p in layout.points:
-        nodes[_key("n", p.id)] = _Node(p.id, "point")
+        nodes[_key("n", p.id)] = _Node(p.id, "point", p.elevation)
     has_parent: set[str] = set()
     for pipe in layout.pipes:
         a, b = _key("n", pipe.start), _key("n", pipe.end)
@@ -88,15 +88,36 @@ def drawing(layout: Layout, marked: Mapping[str, str]) -> str:
         nodes[key] = _Node(arrester.id, "arrester")
         nodes[_key("n", arrester.at)].children.append(("", key))
 
-    top = max(elevation.values(), default=0.0)
     roots = [_key("n", s.id) for s in layout.supplies]
-    roots += [k for k, n in nodes.items() if n.kind == "point" and k not in has_parent]
-    placed = _place(nodes, roots, elevation, top)
-    width = max(MARGIN * 2 + placed * COLUMN, 12 * 92 + 24.0)
-    height = max(n.y for n in nodes.values()) + MARGIN + 40.0 if nodes else 2 * MARGIN
+    orphans = [k for k, n in nodes.items() if n.kind == "point" and k not in has_parent]
+    groups = [[r] for r in roots] + ([orphans] if orphans else [])
+    pipes = {p.id: p for p in layout.pipes}
+    sheets = []
+    for group in groups:
+        order = _order(nodes, group)
+        inside = set(order)
+        name = nodes[group[0]].id if len(group) == 1 else "points without a supply"
+        sheets.append((name, _sheet(layout, nodes, edges, group, order, inside, pipes, marked)))
+    return sheets
 
+
+def _sheet(
+    layout: Layout,
+    nodes: dict[str, _Node],
+    edges: dict[str, tuple[str, str, str, str]],
+    roots: list[str],
+    order: list[str],
+    inside: set[str],
+    pipes: Mapping[str, Pipe],
+    marked: Mapping[str, str],
+) -> str:
+    """One sheet: the tree below ``roots``."""
+    heights = [nodes[k].elevation for k in order if nodes[k].kind in ("point", "supply")]
+    placed = _place(nodes, roots, max(heights, default=0.0))
+    width = max(MARGIN * 2 + placed * COLUMN, 12 * 92 + 24.0)
+    height = max(nodes[k].y for k in order) + MARGIN + 40.0 if order else 2 * MARGIN
     parts: list[str] = []
-    for parent_key in _order(nodes, roots):
+    for parent_key in order:
         parent = nodes[parent_key]
         for edge, child_key in parent.children:
             child = nodes[child_key]
@@ -104,13 +125,19 @@ def drawing(layout: Layout, marked: Mapping[str, str]) -> str:
                 parts.append(_edge(parent, child, edges[edge], marked))
             else:
                 parts.append(_hanger(parent, child))
-    by_point = {n.id: n for n in nodes.values() if n.kind in ("point", "supply")}
     for pipe in layout.pipes:
-        if pipe.service == "hot-return" and pipe.start in by_point and pipe.end in by_point:
-            parts.append(_return(pipe.id, by_point[pipe.start], by_point[pipe.end], marked))
+        a, b = _key("n", pipe.start), _key("n", pipe.end)
+        if pipe.service == "hot-return" and a in inside and b in inside:
+            parts.append(_return(pipe.id, nodes[a], nodes[b], marked))
+    on_pipe: dict[str, list[str]] = {}
     for device in layout.devices:
-        parts.append(_device(device.id, device.kind, device.on, nodes, edges, layout, marked))
-    for key in _order(nodes, roots):
+        on_pipe.setdefault(device.on, []).append(device.id)
+    for device in layout.devices:
+        carrier = pipes.get(device.on)
+        if carrier is None or _key("n", carrier.start) not in inside:
+            continue
+        parts.append(_device(device.id, device.kind, carrier, on_pipe[device.on], nodes, marked))
+    for key in order:
         parts.append(_symbol(nodes[key], marked))
     legend = _legend()
     return (
@@ -138,9 +165,7 @@ def _order(nodes: dict[str, _Node], roots: list[str]) -> list[str]:
     return out
 
 
-def _place(
-    nodes: dict[str, _Node], roots: list[str], elevation: dict[str, float], top: float
-) -> int:
+def _place(nodes: dict[str, _Node], roots: list[str], top: float) -> int:
     """Give every node x (columns) and y (elevation); return the number of columns."""
     order = _order(nodes, roots)
     size: dict[str, int] = {}
@@ -152,7 +177,7 @@ def _place(
     for key in order:
         node = nodes[key]
         if node.kind in ("point", "supply"):
-            node.y = MARGIN + 30.0 + (top - elevation.get(node.id, 0.0)) * PER_METRE
+            node.y = MARGIN + 30.0 + (top - node.elevation) * PER_METRE
         else:
             node.y = parent_y.get(key, MARGIN) + HANG
         for _, child in node.children:
@@ -242,19 +267,15 @@ def _return(ident: str, a: _Node, b: _Node, marked: Mapping[str, str]) -> str:
 def _device(
     ident: str,
     kind: str,
-    on: str,
+    pipe: Pipe,
+    same: list[str],
     nodes: dict[str, _Node],
-    edges: dict[str, tuple[str, str, str, str]],
-    layout: Layout,
     marked: Mapping[str, str],
 ) -> str:
-    pipe = next((p for p in layout.pipes if p.id == on), None)
-    if pipe is None:
-        return ""
+    on = pipe.id
     a, b = nodes.get(_key("n", pipe.start)), nodes.get(_key("n", pipe.end))
     if a is None or b is None:
         return ""
-    same = [d.id for d in layout.devices if d.on == on]
     k = same.index(ident)
     # along the horizontal run of the elbow when there is one, else along the riser
     if abs(b.x - a.x) > 1:
