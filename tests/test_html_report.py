@@ -319,3 +319,22 @@ def test_the_console_check_catches_an_error(tmp_path: Path) -> None:
     )
     shown = _browse(tmp_path, bad, "--dump-dom")
     assert CONSOLE_TROUBLE.search(shown.stderr), shown.stderr[-1000:]
+
+
+def test_several_files_have_their_own_anchors(cli: Cli, tmp_path: Path) -> None:
+    out = tmp_path / "all.html"
+    rc, _, err = cli("check", SAMPLES, "--format", "html", "--output", out)
+    assert rc == 1, err
+    text = out.read_text(encoding="utf-8")
+    ids = re.findall(r'\bid="([^"]+)"', text)
+    assert len(ids) == len(set(ids))  # no anchor twice
+    targets = set(re.findall(r'href="#([^"]+)"', text))
+    assert targets and targets <= set(ids)  # every link lands
+
+
+def test_only_unreadable_files_still_give_a_report(cli: Cli, tmp_path: Path) -> None:
+    out = tmp_path / "none.html"
+    rc, _, _ = cli("check", tmp_path / "missing.yaml", "--format", "html", "--output", out)
+    assert rc == 2
+    dom = _dom(out.read_text(encoding="utf-8"))
+    assert "Input errors" in dom.h2

@@ -268,8 +268,9 @@ def file_context(
     fail_on: str,
     hidden: int | None,
     refs: dict[str, int],
+    key: str = "",
 ) -> dict[str, Any]:
-    """Everything the template shows of one file."""
+    """Everything the template shows of one file (``key`` prefixes its anchors)."""
     counts = summary_counts(findings)
     waived = sum(1 for f in findings if f.waived is not None)
     fails = fail_on != "never" and any(
@@ -285,6 +286,7 @@ def file_context(
         "fail_on": fail_on,
         "passes": not fails,
         "detail": detail is not None,
+        "key": key,
     }
     if detail is None:
         context["groups"] = _groups(findings, "si", refs)
@@ -296,7 +298,7 @@ def file_context(
         units=units,
         digest=detail.digest,
         groups=_groups(findings, units, refs),
-        drawing=drawing(layout, _marks(findings)),
+        drawing=drawing(layout, _marks(findings), key),
         not_drawn=sorted({f.element for f in findings} - _drawn(analysis)),
         pipes=_pipes(analysis),
         points=_points(analysis),
@@ -335,14 +337,21 @@ def render_html(
     refs: dict[str, int] = {}
     contexts = [
         file_context(
-            path, profile, fs, details.get(path), fail_on, hidden if k == 0 else None, refs
+            path,
+            profile,
+            fs,
+            details.get(path),
+            fail_on,
+            hidden if k == 0 else None,  # the baseline's count is for the run, shown once
+            refs,
+            f"f{k + 1}-" if len(results) > 1 else "",
         )
         for k, (path, profile, fs) in enumerate(results)
     ]
     title = (
         contexts[0].get("name", contexts[0]["path"])
         if len(contexts) == 1
-        else (f"{len(contexts)} layouts")
+        else (f"{len(contexts)} layouts" if contexts else "No layout could be checked")
     )
     stream.write(
         _template().render(

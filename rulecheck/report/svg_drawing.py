@@ -49,9 +49,10 @@ def _key(kind: str, ident: str, side: str = "") -> str:
     return f"{kind}:{ident}:{side}"
 
 
-def drawing(layout: Layout, marked: Mapping[str, str]) -> list[tuple[str, str]]:
+def drawing(layout: Layout, marked: Mapping[str, str], prefix: str = "") -> list[tuple[str, str]]:
     """The sheets of ``layout`` as (supply, SVG), one per supply (a riser system) and one
-    for points no supply feeds; ``marked`` maps element id -> its worst severity."""
+    for points no supply feeds; ``marked`` maps element id -> its worst severity; links go
+    to ``#<prefix>el-<id>``."""
     nodes: dict[str, _Node] = {}
     edges: dict[str, tuple[str, str, str, str]] = {}  # edge key -> (kind, id, service, label)
     for s in layout.supplies:
@@ -97,7 +98,10 @@ def drawing(layout: Layout, marked: Mapping[str, str]) -> list[tuple[str, str]]:
         order = _order(nodes, group)
         inside = set(order)
         name = nodes[group[0]].id if len(group) == 1 else "points without a supply"
-        sheets.append((name, _sheet(layout, nodes, edges, group, order, inside, pipes, marked)))
+        svg = _sheet(layout, nodes, edges, group, order, inside, pipes, marked)
+        if prefix:  # our own anchors only: ids inside attributes are escaped, no '"' in them
+            svg = svg.replace('href="#el-', f'href="#{escape(prefix)}el-')
+        sheets.append((name, svg))
     return sheets
 
 
