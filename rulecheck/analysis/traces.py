@@ -11,13 +11,20 @@ into the same record.
 from __future__ import annotations
 
 from collections.abc import Iterable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
-from rulecheck.analysis.result import METHOD_SCREENING, Analysis, ValveEvent, frozen_array
+from rulecheck.analysis.result import (
+    METHOD_SCREENING,
+    METHOD_WHOLE,
+    Analysis,
+    ValveEvent,
+    frozen_array,
+)
 from rulecheck.analysis.transient_limits import RunRefused
 from rulecheck.analysis.transient_model import EventRun, build_event_network, run_event
+from rulecheck.analysis.transient_run import _same_run
 
 #: At most this many valve sides are plotted per layout (the flagged ones first); each
 #: plot is one more run of the solver, and a reviewer reads a handful, not hundreds [D].
@@ -156,13 +163,19 @@ def valve_traces(analysis: Analysis, flagged_fixtures: set[str]) -> tuple[ValveT
     """Re-run the chosen valve events with the model ``check --transient`` used for each
     (whole tree or path model) and return their traces; a run refused now is left out."""
     traces = []
+    runs: dict[tuple, EventRun | None] = {}  # events that agree on their run share it
     for index, flagged in chosen_events(analysis, flagged_fixtures):
         event: ValveEvent = analysis.surge.events[index]
         method = analysis.valve_events[index].method
-        whole = analysis.transient[index] is not None and "whole" in method
-        try:
-            run = run_event(analysis, event, whole_tree=whole)
-        except RunRefused:
+        whole = method == METHOD_WHOLE
+        key = (_same_run(event), whole)
+        if key not in runs:
+            try:
+                runs[key] = run_event(analysis, event, whole_tree=whole)
+            except RunRefused:
+                runs[key] = None
+        run = runs[key]
+        if run is None:
             continue
-        traces.append(trace_of(analysis, run, method, flagged))
+        traces.append(trace_of(analysis, replace(run, event=event), method, flagged))
     return tuple(traces)
