@@ -36,10 +36,13 @@ def summary_counts(findings: list[Finding]) -> Counter[str]:
     return Counter(f.severity for f in findings if f.waived is None)
 
 
-def _words(console: Console, text: str, indent: int, style: str = "") -> None:
-    """``text`` wrapped at spaces to the console width, every line ``indent`` columns in."""
-    for line in _wrap(visible(text), max(console.width - indent, 20)):
-        console.print(Text(" " * indent + line, style=style), no_wrap=True, crop=False)
+def _words(console: Console, text: str, indent: int, style: str = "", lead: str = "") -> None:
+    """``lead`` + ``text`` wrapped at spaces to the console width, ``indent`` columns in;
+    lines after the first hang under the text, past the ``lead``."""
+    hang = indent + len(lead)
+    for k, line in enumerate(_wrap(visible(text), max(console.width - hang, 20))):
+        start = " " * indent + lead if k == 0 else " " * hang
+        console.print(Text(start + line, style=style), no_wrap=True, crop=False)
 
 
 def _block(console: Console, f: Finding, number: int) -> None:
@@ -55,9 +58,9 @@ def _block(console: Console, f: Finding, number: int) -> None:
     dim = "dim" if waived else ""
     _words(console, f.message, _INDENT, dim)
     if f.fix:
-        _words(console, f"{FIX_MARK} {f.fix}", _INDENT, dim)
+        _words(console, f.fix, _INDENT, dim, lead=f"{FIX_MARK} ")
     if waived:
-        _words(console, f"waived: {f.waived}", _INDENT, "dim italic")
+        _words(console, f.waived or "", _INDENT, "dim italic", lead="waived: ")
 
 
 def render_check(
