@@ -118,7 +118,8 @@ FORMATS: dict[str, Format] = {
         Format("sarif", "SARIF 2.1.0 for code-scanning tools", _sarif, True, False, ".sarif"),
         Format(
             "html",
-            "a self-contained submittal report: drawing, tables, plots with --transient",
+            "a self-contained submittal report: drawing, tables, plots with --transient "
+            "(SOURCE_DATE_EPOCH pins its date)",
             _html,
             True,
             True,
