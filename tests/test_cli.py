@@ -331,8 +331,13 @@ def test_text_output_has_the_caution_and_positions(
     path = write_layout(LAYOUTS["caution"][0])
     rc, out, err = cli("check", path)
     assert CAUTION in " ".join(out.split())
-    assert f"{path}:13:5" in out and "velocity-limit" in out and "caution" in out
-    assert "1 file checked: 0 hazards, 0 violations, 1 caution, 0 advisories" in out
+    # grouped: the file, then the element with its line, then the finding
+    assert f"{path}\nP1  line 13\n  caution  velocity-limit  [1]\n" in out
+    assert "1 file checked: 0 hazards, 0 violations, 1 caution, 0 advisories" in " ".join(
+        out.split()
+    )
+    rc, lines, _ = cli("check", path, "--format", "lines")
+    assert f"{path}:13:5: caution: velocity-limit: " in lines
 
 
 def test_non_terminal_output_has_no_ansi(write_layout: Callable[..., Path], cli: Cli) -> None:

@@ -6,11 +6,13 @@ import argparse
 import sys
 from collections.abc import Callable
 from pathlib import Path
+from typing import Any
 
 from rich.console import Console
 
 from rulecheck.cli.common import UsageError, print_input_error
 from rulecheck.cli.outputs import LAYOUT_SUFFIXES, REPLACE_OPTION, OutputRefused, guard_outputs
+from rulecheck.cli.report_data import file_detail, output_in_folder, report_date
 from rulecheck.engine.config import FAIL_ON, load_config
 from rulecheck.engine.context import Settings
 from rulecheck.errors import EXIT_FINDINGS, EXIT_INPUT, EXIT_OK, InputError
@@ -29,7 +31,11 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         default="text",
         help="; ".join(f"{f.name}: {f.summary}" for f in FORMATS.values()),
     )
-    check.add_argument("--output", metavar="FILE", help="write the report to FILE, not stdout")
+    check.add_argument(
+        "--output",
+        metavar="FILE",
+        help="write the report to FILE, not stdout (html: a folder gets <layout>.html)",
+    )
     check.add_argument(
         "--fail-on",
         choices=FAIL_ON,
@@ -108,7 +114,12 @@ def run(args: argparse.Namespace, console: Console) -> int:
     paths = collect_paths(args.paths, config.excluded)
     if not paths:
         raise UsageError("rulecheck check: no layout files (*.yaml, *.yml) found")
+    chosen = FORMATS[args.format]
+    if chosen.detail:  # a folder gets <layout>.html (other formats name their file)
+        args.output = output_in_folder(args.output, paths, chosen.suffix)
     refuse_overwrite(args, paths, config.path)
+    date = report_date() if chosen.detail else ""
+    details: dict[str, Any] = {}
     unread = 0
     for path in paths:
         try:
@@ -120,6 +131,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
                 print_input_error(exc)
             continue
         results.append((result.path, result.profile, result.findings))
+        if chosen.detail:
+            details[result.path] = file_detail(result)
     if args.write_baseline and errors:
         print("rulecheck: baseline not written: fix the input errors first", file=sys.stderr)
     elif args.write_baseline:
@@ -131,7 +144,8 @@ def run(args: argparse.Namespace, console: Console) -> int:
     hidden = None
     if known is not None:
         results, hidden = baseline.apply_baseline(results, known)
-    write_report(args, console, CheckReport(results, errors, hidden, unread))
+    report = CheckReport(results, errors, hidden, unread, details, fail_on, date)
+    write_report(args, console, report)
     if errors:
         return EXIT_INPUT
     failing = any(reaches(f, fail_on) for _, _, fs in results for f in fs)

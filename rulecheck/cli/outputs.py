@@ -32,8 +32,15 @@ _OURS_HEAD = (
         rb'"driver":\s*\{\s*"name":\s*"rulecheck"',
         re.DOTALL,
     ),
+    re.compile(
+        rb'\A<!DOCTYPE html>\s*<html lang="en">\s*<head>\s*<meta charset="utf-8">\s*'
+        rb'<meta name="generator" content="rulecheck '
+    ),  # --format html
 )
-_OURS_TAIL = re.compile(rb"\d+ files? checked: [^\n]*\n(?:[^\n]*\n)?Caution: [^\n]*\n?\Z")  # text
+# text and lines: the summary and the caution end the report (wrapped to the width)
+_OURS_TAIL = re.compile(
+    rb"\d+ files? checked: [^\n]*(?:\n[^\n]*){0,4}\nCaution: [^\n]*(?:\n[^\n]*){0,24}\n?\Z"
+)
 _SNIFF = 4096
 
 

@@ -59,7 +59,12 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         help="simulated time in seconds (default: closure + the longer of 10 round trips and "
         "one arrester-column period, run on while an extreme is on the last step)",
     )
-    simulate.add_argument("--format", choices=("text", "json", "csv"), default="text")
+    simulate.add_argument(
+        "--format",
+        choices=("text", "json", "csv", "html"),
+        default="text",
+        help="html: a self-contained page with the plot at the valve and the envelope",
+    )
     simulate.add_argument("--profile", choices=profile_ids())
 
 
@@ -114,7 +119,23 @@ def run(args: argparse.Namespace, console: Console) -> int:
         if "p" in bar:
             bar["p"].stop()
     result, units = run.result, analysis.layout.units
-    if args.format == "json":
+    if args.format == "html":
+        from rulecheck.analysis.result import METHOD_PATH, METHOD_WHOLE
+        from rulecheck.analysis.traces import trace_of
+        from rulecheck.cli.report_data import digest, report_date
+        from rulecheck.report.html import render_simulation
+
+        method = METHOD_PATH if model == "path model" else METHOD_WHOLE
+        render_simulation(
+            sys.stdout,
+            analysis,
+            trace_of(analysis, run, method),
+            model,
+            digest(analysis.layout.path),
+            _cavities_line(run.cavities, units),
+            report_date(),
+        )
+    elif args.format == "json":
         from rulecheck.report.json_report import dumps
 
         sys.stdout.write(dumps({**_document(run), "model": model}))

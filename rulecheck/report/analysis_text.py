@@ -9,10 +9,18 @@ from rulecheck.physics.constants import STANDARD_ATMOSPHERE
 from rulecheck.physics.demand import hunter_table
 from rulecheck.units import from_si, unit_label
 
+#: ``analyze`` text fits this many columns (the tables' headers carry their units on a
+#: second line; prose lines wrap at spaces)
+WIDTH = 100
+
 
 def _table(headers: list[str], rows: list[list[str]]) -> list[str]:
+    """A table; a header ``"name [unit]"`` puts its unit on a second header line."""
+    names = [h.split(" [")[0] for h in headers]
+    units = [h[len(n) :].strip().strip("[]") for h, n in zip(headers, names, strict=True)]
     widths = [
-        max(len(h), *(len(r[i]) for r in rows)) if rows else len(h) for i, h in enumerate(headers)
+        max(len(n), len(u), *(len(r[i]) for r in rows)) if rows else max(len(n), len(u))
+        for i, (n, u) in enumerate(zip(names, units, strict=True))
     ]
 
     def line(cells: list[str]) -> str:
@@ -21,7 +29,15 @@ def _table(headers: list[str], rows: list[list[str]]) -> list[str]:
             for i, (c, w) in enumerate(zip(cells, widths, strict=True))
         ).rstrip()
 
-    return [line(headers), *(line(r) for r in rows)]
+    head = [line(names)] + ([line(units)] if any(units) else [])
+    return [*head, *(line(r) for r in rows)]
+
+
+def _prose(text: str) -> list[str]:
+    """A note wrapped at spaces to :data:`WIDTH` (words never cut)."""
+    import textwrap
+
+    return textwrap.wrap(text, WIDTH, break_long_words=False, break_on_hyphens=False) or [""]
 
 
 def _num(value: float, kind: str, units: str, decimals: int = 2) -> str:
@@ -83,7 +99,7 @@ def render_analysis(analysis: Analysis) -> str:
     layout, units = analysis.layout, analysis.layout.units
     lab = {k: unit_label(k, units) for k in ("flow", "velocity", "pressure", "length")}
     out = [f"{layout.name}  ({layout.path}, profile {layout.profile}, units {units})", ""]
-    out += [demand_curve_line(analysis), ""]
+    out += [*_prose(demand_curve_line(analysis)), ""]
     auto = analysis.demand_curve == "auto" and analysis.profile.fixture_unit == "WSFU"
     rows = []
     speeds = analysis.surge.wave_speed if analysis.surge is not None else None
@@ -111,11 +127,15 @@ def render_analysis(analysis: Analysis) -> str:
             f"flow [{lab['flow']}]",
             f"velocity [{lab['velocity']}]",
             f"friction [{lab['pressure']}]",
-            f"wave speed [{lab['velocity']}]",
+            f"wave [{lab['velocity']}]",
             "curve",
-            *(["flushometer WSFU [%]"] if auto else []),
+            *(["flush [%]"] if auto else []),
         ],
         rows,
+    )
+    out += _prose(
+        "wave: wave speed; curve: the demand column read"
+        + ("; flush: share of the fixture units on flushometer valves" if auto else "")
     )
     out.append("")
     separated = analysis.static_separated
@@ -138,12 +158,12 @@ def render_analysis(analysis: Analysis) -> str:
         rows,
     )
     if separated:
-        out.append(
+        out += _prose(
             "* vapour pressure: the supply cannot hold the water column up at rest here; "
             "it separates"
         )
     if any(v < 0.0 for v in analysis.residual.values()):
-        out.append(
+        out += _prose(
             "short: no pressure is left at design flow; the figure is the shortfall, not a pressure"
         )
     if analysis.surge is not None and analysis.surge.events:
@@ -176,7 +196,7 @@ def render_analysis(analysis: Analysis) -> str:
             rows,
         )
         if any(_at_vapour(analysis, e) for e in analysis.surge.events):
-            out.append(
+            out += _prose(
                 "* vapour pressure, the lowest water can reach: the column separates unless "
                 "an arrester protects the valve"
             )

@@ -1,11 +1,21 @@
-"""Human-readable output with rich: one line per finding, then a summary and the caution."""
+"""The terminal report (rich): findings grouped by file, then element, then the sources,
+the summary and the caution.
+
+Each element is a heading once (its id and line); under it each finding is a block: the
+severity word, the rule id and the source number ``[n]``, then the message wrapped to the
+width with a hanging indent, then the fix on its own line after our marker ``⇢``. A waived
+finding is dim throughout (never in its severity colour) with the waiver's reason. The
+sources are listed once, numbered, after the findings. Wrapping is at spaces only (rich
+word wrap); a word longer than the line is not cut but left to overflow. The one-line form
+for editors and grep is :func:`render_lines`.
+"""
 
 from __future__ import annotations
 
 from collections import Counter
 
 from rich.console import Console
-from rich.markup import escape
+from rich.text import Text
 
 from rulecheck.errors import visible
 from rulecheck.findings import SEVERITIES, Finding
@@ -14,28 +24,43 @@ from rulecheck.report import CAUTION
 _STYLE = {
     "hazard": "bold magenta",
     "violation": "bold red",
-    "caution": "yellow",
-    "advisory": "cyan",
+    "caution": "bold yellow",
+    "advisory": "bold cyan",
 }
-
-
-def _shown(text: str) -> str:
-    """Text from the layout as rich markup: control characters visible, markup escaped."""
-    return escape(visible(text))
-
-
-def finding_line(f: Finding) -> str:
-    """``path:line:col  severity  rule-id  message  [source]`` as rich markup."""
-    waived = f" [dim](waived: {_shown(f.waived)})[/dim]" if f.waived is not None else ""
-    fix = f" [dim]→ {_shown(f.fix)}[/dim]" if f.fix else ""
-    return (
-        f"{_shown(f.path)}:{f.line}:{f.column}  [{_STYLE[f.severity]}]{f.severity}[/]  "
-        f"{_shown(f.rule)}  {_shown(f.message)}{fix}{waived}  [dim]\\[{_shown(f.source)}][/dim]"
-    )
+#: marks the fix, the line people act on (our own symbol)
+FIX_MARK = "⇢"
+_INDENT = 4  # the message under its severity line
 
 
 def summary_counts(findings: list[Finding]) -> Counter[str]:
     return Counter(f.severity for f in findings if f.waived is None)
+
+
+def _words(console: Console, text: str, indent: int, style: str = "", lead: str = "") -> None:
+    """``lead`` + ``text`` wrapped at spaces to the console width, ``indent`` columns in;
+    lines after the first hang under the text, past the ``lead``."""
+    hang = indent + len(lead)
+    for k, line in enumerate(_wrap(visible(text), max(console.width - hang, 20))):
+        start = " " * indent + lead if k == 0 else " " * hang
+        console.print(Text(start + line, style=style), no_wrap=True, crop=False)
+
+
+def _block(console: Console, f: Finding, number: int) -> None:
+    waived = f.waived is not None
+    head = Text("  ")
+    head.append(f.severity, style="dim" if waived else _STYLE[f.severity])
+    head.append("  ")
+    head.append(visible(f.rule), style="dim" if waived else "bold")
+    head.append(f"  [{number}]", style="dim")
+    if waived:
+        head.append("  waived", style="dim italic")
+    console.print(head, overflow="ignore", crop=False)
+    dim = "dim" if waived else ""
+    _words(console, f.message, _INDENT, dim)
+    if f.fix:
+        _words(console, f.fix, _INDENT, dim, lead=f"{FIX_MARK} ")
+    if waived:
+        _words(console, f.waived or "", _INDENT, "dim italic", lead="waived: ")
 
 
 def render_check(
@@ -45,28 +70,97 @@ def render_check(
     hidden: int = 0,
     unread: int = 0,
 ) -> None:
-    """Finding lines, then the summary; ``unread`` of the ``failed`` files could not be read."""
+    """The grouped findings, the sources, then the summary and the caution; ``unread`` of
+    the ``failed`` files could not be read."""
     every: list[Finding] = []
-    for _path, findings in results:
-        for f in findings:
-            console.print(finding_line(f), soft_wrap=True, highlight=False)
+    sources: dict[str, int] = {}
+    for path, findings in results:
         every.extend(findings)
+        if not findings:
+            continue
+        console.print(Text(visible(path), style="bold underline"), overflow="fold")
+        elements: dict[str, list[Finding]] = {}
+        for f in sorted(findings, key=Finding.sort_key):
+            elements.setdefault(f.element, []).append(f)
+        # elements in file order (the line of their first finding)
+        for element, these in sorted(elements.items(), key=lambda kv: kv[1][0].sort_key()):
+            heading = Text(visible(element), style="bold")
+            heading.append(f"  line {these[0].line}", style="dim")
+            console.print(heading, overflow="ignore", crop=False)
+            for f in these:
+                _block(console, f, sources.setdefault(f.source, len(sources) + 1))
+        console.print()
+    if sources:
+        console.print(Text("Sources", style="bold"))
+        for source, number in sources.items():
+            _hanging(console, f"[{number}]", source)
+        console.print()
+    files = len(results) + len(failed) - unread
+    _words(console, summary_line(every, files, hidden, len(failed) - unread, unread), 0, "bold")
+    _words(console, f"Caution: {CAUTION}", 0)
+
+
+def summary_line(every: list[Finding], files: int, hidden: int, bad: int, unread: int) -> str:
+    """``N files checked: counts; waived; hidden; with input errors; could not be read``."""
     counts = summary_counts(every)
     waived = sum(1 for f in every if f.waived is not None)
-    parts = [f"{_plural(counts.get(s, 0), s)}" for s in SEVERITIES]
-    files = len(results) + len(failed) - unread
-    line = f"{files} file{'s' if files != 1 else ''} checked: " + ", ".join(parts)
+    line = f"{files} file{'s' if files != 1 else ''} checked: " + ", ".join(
+        _plural(counts.get(s, 0), s) for s in SEVERITIES
+    )
     if waived:
         line += f"; {waived} waived"
     if hidden:
         line += f"; {hidden} hidden by the baseline"
-    if len(failed) > unread:
-        line += f"; {len(failed) - unread} with input errors"
+    if bad:
+        line += f"; {bad} with input errors"
     if unread:
         line += f"; {unread} could not be read"
-    console.print()
-    console.print(line, soft_wrap=True, highlight=False)
-    console.print(f"[dim]Caution: {CAUTION}[/dim]", soft_wrap=True, highlight=False)
+    return line
+
+
+def _hanging(console: Console, label: str, text: str) -> None:
+    """``  [n] text`` with the text's later lines under its first word."""
+    indent = len(label) + 3
+    for k, line in enumerate(_wrap(visible(text), max(console.width - indent, 20))):
+        out = Text(f"  {label} ", style="dim") if k == 0 else Text(" " * indent)
+        out.append(line)
+        console.print(out, no_wrap=True, crop=False)
+
+
+def _wrap(text: str, width: int) -> list[str]:
+    """Words into lines of at most ``width`` (a longer word has a line to itself)."""
+    lines: list[str] = []
+    current = ""
+    for word in text.split():
+        if current and len(current) + 1 + len(word) > width:
+            lines.append(current)
+            current = word
+        else:
+            current = f"{current} {word}" if current else word
+    if current:
+        lines.append(current)
+    return lines
+
+
+def finding_line(f: Finding) -> str:
+    """``path:line:col: severity: rule-id: message`` (plain text, one line)."""
+    waived = f" (waived: {f.waived})" if f.waived is not None else ""
+    return visible(f"{f.path}:{f.line}:{f.column}: {f.severity}: {f.rule}: {f.message}{waived}")
+
+
+def render_lines(
+    results: list[tuple[str, list[Finding]]],
+    failed: list[str],
+    hidden: int = 0,
+    unread: int = 0,
+) -> str:
+    """One line per finding for editors and grep, then the summary line and the caution."""
+    every = [f for _, findings in results for f in findings]
+    out = [finding_line(f) for f in sorted(every, key=Finding.sort_key)]
+    files = len(results) + len(failed) - unread
+    out.append(summary_line(every, files, hidden, len(failed) - unread, unread))
+    out.append(f"Caution: {CAUTION}")
+    return "\n".join(out) + "\n"
 
 
 def _plural(count: int, word: str) -> str:
