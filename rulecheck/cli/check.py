@@ -6,8 +6,7 @@ import argparse
 import sys
 from collections.abc import Callable
 from pathlib import Path
-
-from rich.console import Console
+from typing import TYPE_CHECKING
 
 from rulecheck.cli.common import UsageError, print_input_error
 from rulecheck.cli.outputs import LAYOUT_SUFFIXES, REPLACE_OPTION, OutputRefused, guard_outputs
@@ -18,6 +17,9 @@ from rulecheck.files import UnreadableFile, atomic_output
 from rulecheck.findings import SEVERITY_RANK, Finding
 from rulecheck.input.profiles import profile_ids
 from rulecheck.report.formats import FORMATS, CheckReport
+
+if TYPE_CHECKING:  # rich is imported only by the text output
+    from rich.console import Console
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -161,7 +163,9 @@ def write_report(args: argparse.Namespace, console: Console, report: CheckReport
     (UTF-8, ``\\n`` line ends; colour only on a terminal, never in a file)."""
     write = FORMATS[args.format].write
     if args.output is None:
-        write(report, sys.stdout, console.is_terminal and console.color_system is not None)
+        # only the text output uses escape codes (formats.py): the others never ask rich
+        colour = args.format == "text" and console.is_terminal
+        write(report, sys.stdout, colour and console.color_system is not None)
         return
     with atomic_output(args.output) as handle:
         write(report, handle, False)

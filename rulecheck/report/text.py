@@ -3,13 +3,14 @@
 from __future__ import annotations
 
 from collections import Counter
-
-from rich.console import Console
-from rich.markup import escape
+from typing import TYPE_CHECKING
 
 from rulecheck.errors import visible
 from rulecheck.findings import SEVERITIES, Finding
 from rulecheck.report import CAUTION
+
+if TYPE_CHECKING:  # rich is imported when text is written (json_report imports this module)
+    from rich.console import Console
 
 _STYLE = {
     "hazard": "bold magenta",
@@ -21,6 +22,8 @@ _STYLE = {
 
 def _shown(text: str) -> str:
     """Text from the layout as rich markup: control characters visible, markup escaped."""
+    from rich.markup import escape
+
     return escape(visible(text))
 
 
