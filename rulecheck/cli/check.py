@@ -64,11 +64,25 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         "--no-waivers", action="store_true", help="audit mode: ignore the layouts' waivers"
     )
     check.add_argument(
+        "--jobs",
+        type=_jobs,
+        default=None,
+        metavar="N",
+        help="check the files on N processes (default: all usable cores; the report "
+        "is the same on any number)",
+    )
+    check.add_argument(
         "--transient",
         action="store_true",
         help="simulate every quick-closing valve (method of characteristics) "
         "and judge surge peak and column separation on the simulation",
     )
+
+
+def _jobs(text: str) -> int:
+    if not text.isdigit() or not 1 <= int(text) <= 256:
+        raise argparse.ArgumentTypeError(f"expected a whole number from 1 to 256, got {text!r}")
+    return int(text)
 
 
 def collect_paths(raw: list[str], skip: Callable[[Path], bool] | None = None) -> list[Path]:
@@ -98,7 +112,7 @@ def reaches(finding: Finding, fail_on: str) -> bool:
 def run(args: argparse.Namespace, console: Console) -> int:
     from rulecheck.analysis import AnalysisOptions
     from rulecheck.engine import baseline
-    from rulecheck.pipeline import check_file
+    from rulecheck.folder import check_files
 
     config = load_config(args.config)
     settings = config.apply(Settings(honour_waivers=not args.no_waivers))
@@ -112,16 +126,15 @@ def run(args: argparse.Namespace, console: Console) -> int:
         raise UsageError("rulecheck check: no layout files (*.yaml, *.yml) found")
     refuse_overwrite(args, paths, config.path)
     unread = 0
-    for path in paths:
-        try:
-            result = check_file(path, settings, args.profile or config.profile_for(path), options)
-        except InputError as exc:
-            errors.append(exc)
-            unread += isinstance(exc, UnreadableFile)
+    profile_for = (lambda _path: args.profile) if args.profile else config.profile_for
+    for outcome in check_files(paths, settings, profile_for, options, args.jobs):
+        if isinstance(outcome, InputError):
+            errors.append(outcome)
+            unread += isinstance(outcome, UnreadableFile)
             if not FORMATS[args.format].carries_errors:
-                print_input_error(exc)
+                print_input_error(outcome)
             continue
-        results.append((result.path, result.profile, result.findings))
+        results.append(outcome)
     if args.write_baseline and errors:
         print("rulecheck: baseline not written: fix the input errors first", file=sys.stderr)
     elif args.write_baseline:
