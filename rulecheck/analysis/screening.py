@@ -28,8 +28,8 @@ from rulecheck.analysis.result import (
 from rulecheck.input.model import Arrester, Fixture
 from rulecheck.physics.constants import STANDARD_ATMOSPHERE
 from rulecheck.physics.surge import (
+    closure_time_for_limit,
     column_separates,
-    min_safe_closure_time,
     screening_minimum,
 )
 from rulecheck.physics.surge_paths import path_surges
@@ -135,6 +135,7 @@ def screen_surges(analysis: SteadyState) -> SurgeScreening:
     layout, profile = analysis.layout, analysis.profile
     speeds = pipe_wave_speeds(analysis)
     speed_of = speeds.tolist()
+    area_of = [pipe.area for pipe in layout.pipes]
     reach = arresters_within(analysis, profile.arrester_distance)
     arresters = {a.id: a for a in layout.arresters}
     served: dict[str, list[tuple[Fixture, str, float]]] = {a.id: [] for a in layout.arresters}
@@ -157,12 +158,11 @@ def screen_surges(analysis: SteadyState) -> SurgeScreening:
             path = tuple(analysis.network.path_up(point, side))
             sides.append(_Side(fixture, side, point, protector, chambers, path, len(lengths)))
             for i in path:
-                pipe = layout.pipes[i]
-                lengths.append(pipe.length)
+                lengths.append(layout.pipes[i].length)
                 wave.append(speed_of[i])
-                stopped.append(fixture.flow / pipe.area)
+                stopped.append(fixture.flow / area_of[i])
     piped = [s for s in sides if s.path]
-    critical, rise, surge, _ = path_surges(
+    critical, rise, surge, column = path_surges(
         [analysis.water_for(s.side).density for s in piped],
         lengths,
         wave,
@@ -173,12 +173,13 @@ def screen_surges(analysis: SteadyState) -> SurgeScreening:
     figures = dict(
         zip(
             (id(s) for s in piped),
-            zip(critical.tolist(), rise.tolist(), surge.tolist(), strict=True),
+            zip(critical.tolist(), rise.tolist(), surge.tolist(), column.tolist(), strict=True),
             strict=True,
         )
     )
     events = [
-        _event(analysis, s, figures.get(id(s), (0.0, 0.0, 0.0)), lengths, stopped) for s in sides
+        _event(analysis, s, figures.get(id(s), (0.0, 0.0, 0.0, 0.0)), lengths, stopped)
+        for s in sides
     ]
     return SurgeScreening(
         wave_speed=speeds,
@@ -207,17 +208,18 @@ class _Side:
 def _event(
     analysis: SteadyState,
     at: _Side,
-    figures: tuple[float, float, float],
+    figures: tuple[float, float, float, float],
     all_lengths: list[float],
     all_stopped: list[float],
 ) -> ValveEvent:
-    """The screening event of one side from its path figures (T_c, Joukowsky, surge)."""
+    """The screening event of one side from its path figures (T_c, Joukowsky, surge,
+    sum L dv)."""
     profile = analysis.profile
     fixture, side, point, protector, path = at.fixture, at.side, at.point, at.protector, at.path
     water = analysis.water_for(side)
     lengths = all_lengths[at.first : at.first + len(path)]
     dv = all_stopped[at.first : at.first + len(path)]
-    t_c, rise, surge = figures
+    t_c, rise, surge, column = figures
     t = fixture.closure_time
     smax, smin = analysis.static_max[point], analysis.static_min[point]
     unprotected = smax + surge
@@ -241,7 +243,8 @@ def _event(
         peak=min(unprotected, profile.surge_limit) if protector else unprotected,
         min_pressure=screening_minimum(smin, surge, water.vapour_pressure, STANDARD_ATMOSPHERE),
         min_safe_closure=(
-            min_safe_closure_time(water.density, lengths, dv, smax, profile.surge_limit)
+            # physics.surge.min_safe_closure_time of the path, its sum L dv already made
+            closure_time_for_limit(water.density * column, smax, profile.surge_limit)
             if path
             else 0.0
         ),
