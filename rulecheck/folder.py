@@ -12,17 +12,16 @@ file, the files are checked in this process, one after another.
 
 from __future__ import annotations
 
-import multiprocessing as mp
 import os
 from collections.abc import Callable, Iterator
 from dataclasses import replace
 from pathlib import Path
 
+from rulecheck import pipeline
 from rulecheck.analysis.result import AnalysisOptions
 from rulecheck.engine.context import Settings
 from rulecheck.errors import InputError
 from rulecheck.findings import Finding
-from rulecheck.pipeline import check_file
 
 #: one file's outcome: (path, profile, findings), or the input error that stopped it
 Outcome = tuple[str, str, list[Finding]] | InputError
@@ -39,7 +38,7 @@ def _check_one(path: Path) -> Outcome:
     assert isinstance(settings, Settings) and isinstance(options, AnalysisOptions)
     assert callable(profile_for)
     try:
-        result = check_file(path, settings, profile_for(path), options)
+        result = pipeline.check_file(path, settings, profile_for(path), options)
     except InputError as exc:
         return exc
     return (result.path, result.profile, result.findings)
@@ -68,7 +67,12 @@ def check_files(
     """
     _JOB.update(settings=settings, profile_for=profile_for, options=options)
     count = min(workers or default_workers(), max(len(paths) - 1, 1))
-    if count <= 1 or "fork" not in mp.get_all_start_methods():
+    if count > 1:
+        import multiprocessing as mp  # some 15 ms of imports: only for a pool
+
+        if "fork" not in mp.get_all_start_methods():
+            count = 1
+    if count <= 1:
         for path in paths:
             yield _check_one(path)
         return
