@@ -36,7 +36,11 @@ def smallest_sample() -> Path:
 def timed(command: list[str], env: dict[str, str] | None = None) -> float:
     start = time.perf_counter()
     done = subprocess.run(
-        command, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, env=env, cwd=ROOT
+        command,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.DEVNULL,
+        env=env,
+        cwd=env["PYTHONPATH"] if env and env.get("BENCH_CWD") else ROOT,
     )
     elapsed = time.perf_counter() - start
     if done.returncode not in (0, 1):  # 1: the sample has findings
@@ -84,7 +88,8 @@ def main() -> int:
     }
     envs: dict[str, dict[str, str] | None] = {name: None for name in commands}
     if args.before is not None:
-        old = dict(os.environ, PYTHONPATH=str(args.before.resolve()))
+        # run in the old checkout: ``python -m`` puts the working folder first on the path
+        old = dict(os.environ, PYTHONPATH=str(args.before.resolve()), BENCH_CWD="before")
         subprocess.run([python, "-m", "compileall", "-q", str(args.before / "rulecheck")])
         commands["before: check (text)"] = commands["check (text)"]
         envs["before: check (text)"] = old
