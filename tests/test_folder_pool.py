@@ -64,3 +64,17 @@ def test_jobs_must_be_a_sensible_count(folder: Path, jobs: str) -> None:
     done = subprocess.run(command, capture_output=True, text=True, timeout=120)
     assert done.returncode == 2
     assert "--jobs" in done.stderr and "Traceback" not in done.stderr
+
+
+def test_transient_runs_in_pooled_files_give_the_serial_bytes(tmp_path: Path) -> None:
+    for sample in sorted((ROOT / "samples").glob("*.yaml")):
+        shutil.copy(sample, tmp_path / sample.name)
+    command = [sys.executable, "-m", "rulecheck", "check", str(tmp_path), "--transient"]
+    runs = [
+        subprocess.run(
+            [*command, "--format", "json", "--jobs", jobs], capture_output=True, timeout=600
+        )
+        for jobs in ("1", "2")
+    ]
+    assert runs[0].returncode in (0, 1) and b"simulation" in runs[0].stdout
+    assert runs[1].stdout == runs[0].stdout and runs[1].returncode == runs[0].returncode
