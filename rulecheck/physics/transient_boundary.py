@@ -196,10 +196,6 @@ class ArresterBank:
         self.rho_g = rho_g
         self.p_atm = p_atm
         self.valve = valve
-        # the fixed per-arrester figures _off_stop needs, for the last index array it was
-        # given (the same array every step while no cavity holds an arrester's node)
-        self._fixed_for: np.ndarray | None = None
-        self._fixed: tuple[np.ndarray, ...] = ()
 
     def step(
         self, sc: np.ndarray, sb: np.ndarray, cv: np.ndarray, zv: np.ndarray, i: np.ndarray
@@ -228,8 +224,11 @@ class ArresterBank:
     def _off_stop(
         self, sc: np.ndarray, sb: np.ndarray, cv: np.ndarray, zv: np.ndarray, i: np.ndarray
     ) -> np.ndarray:
-        v_old, q_old = self.volume[i], self.flow[i]
-        two_dt, v_max, k, inv_rho_g, base, neg_n, slope_of = self._fixed_figures(i)
+        v_old, q_old, two_dt = self.volume[i], self.flow[i], 2.0 / self.dt[i]
+        v_max, n, k, z = self.v_max[i], self.exponent[i], self.constant[i], self.z[i]
+        p_atm, inv_rho_g = self.p_atm[i], 1.0 / self.rho_g[i]
+        # H(V) = base + p(V) / (rho g), p = K V^-n; dH/dV = -n p / (V rho g)
+        base, neg_n, slope_of = z - p_atm * inv_rho_g, -n, -n * inv_rho_g
         rest = sc + q_old - two_dt * v_old  # f(V) = rest - S_B H - Q_valve + 2 V / dt
         half_cv, tol = 0.5 * cv, _NEWTON_TOLERANCE * v_old
         any_valve = bool((cv > 0.0).any())
@@ -262,20 +261,6 @@ class ArresterBank:
         self.flow[i] = np.where(back, 0.0, -two_dt * (v - v_old) - q_old)
         self.volume[i] = v
         return head
-
-    def _fixed_figures(self, i: np.ndarray) -> tuple[np.ndarray, ...]:
-        """2/dt, V_max, K, 1/(rho g), the head base, -n and -n/(rho g) of arresters ``i``
-        (kept for the index array of the last call: the arrays they come from never change).
-        """
-        if i is not self._fixed_for:
-            n, inv_rho_g = self.exponent[i], 1.0 / self.rho_g[i]
-            # H(V) = base + p(V) / (rho g), p = K V^-n; dH/dV = -n p / (V rho g)
-            base = self.z[i] - self.p_atm[i] * inv_rho_g
-            two_dt = 2.0 / self.dt[i]
-            self._fixed = (two_dt, self.v_max[i], self.constant[i], inv_rho_g, base, -n)
-            self._fixed += (-n * inv_rho_g,)
-            self._fixed_for = i
-        return self._fixed
 
 
 class CavityPlaces:
