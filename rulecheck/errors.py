@@ -78,6 +78,10 @@ class InputError(Exception):
         self.problems = problems
         self.omitted = omitted
 
+    def __reduce__(self) -> tuple[type[InputError], tuple[list[InputProblem], int]]:
+        # rebuilt from its problems when it comes back from a worker process (folders)
+        return (self.__class__, (self.problems, self.omitted))
+
     @classmethod
     def at(cls, path: str, position: Position, message: str, hint: str = "") -> InputError:
         return cls([InputProblem(path, position, message, hint)])

@@ -10,6 +10,13 @@ from __future__ import annotations
 from importlib.resources import files
 from importlib.resources.abc import Traversable
 from pathlib import Path
+from typing import Any
+
+import yaml
+
+# libyaml's loader where PyYAML has it: the same data as yaml.safe_load, some 10x faster
+# on the shipped rule files (part of every run's start-up).
+_SAFE_LOADER: Any = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
 
 
 def data_dir(name: str) -> Traversable:
@@ -26,3 +33,13 @@ def data_dir(name: str) -> Traversable:
 def read_text(folder: str, filename: str) -> str:
     """Read one shipped data file as UTF-8 text."""
     return (data_dir(folder) / filename).read_text(encoding="utf-8")
+
+
+def load_yaml(text: str) -> Any:
+    """Shipped YAML data (trusted text) as plain Python data, with the C loader."""
+    return yaml.load(text, Loader=_SAFE_LOADER)  # noqa: S506 - a safe loader
+
+
+def read_yaml(folder: str, filename: str) -> Any:
+    """One shipped YAML data file as plain Python data."""
+    return load_yaml(read_text(folder, filename))

@@ -1,9 +1,11 @@
 """Quantities: parse ``"12 ft"`` / bare numbers into SI floats, and format SI back.
 
-Units are converted once, here, at the edge. Parsing uses pint's unit registry;
-each distinct unit text is resolved once and cached as an affine map
-(``si = value * scale + offset``), so a 100k-pipe file does not pay pint's
-parsing cost per value.
+Units are converted once, here, at the edge. pint's unit registry is the authority;
+each distinct unit text is resolved once as an affine map (``si = value * scale +
+offset``), so a 100k-pipe file does not pay pint's parsing cost per value. The maps of
+the common spellings come from a table generated from pint (``unit_table.py``, by
+``scripts/make_unit_table.py``; ``tests/test_unit_table.py`` checks it against pint), so
+a run imports pint (some 0.3 s with its registry) only for a spelling outside the table.
 """
 
 from __future__ import annotations
@@ -11,9 +13,12 @@ from __future__ import annotations
 import math
 import re
 from functools import cache
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-import pint
+from rulecheck.unit_table import TABLE
+
+if TYPE_CHECKING:
+    import pint
 
 # What each kind of quantity is in SI, and what a bare number means per unit system.
 # Small lengths (diameters, walls, roughness) read bare numbers in inches / millimetres:
@@ -91,8 +96,13 @@ def _accepted(kind: str) -> str:
     )
 
 
+KINDS = tuple(_SI_UNIT)
+
+
 @cache
 def registry() -> pint.UnitRegistry:
+    import pint
+
     ureg: pint.UnitRegistry = pint.UnitRegistry()
     ureg.define("gallon_per_minute = gallon / minute = gpm")
     return ureg
@@ -108,6 +118,12 @@ _CONVERTED_MAX = 100_000
 @cache
 def _affine(unit_text: str, kind: str) -> tuple[float, float]:
     """(scale, offset) taking a value in ``unit_text`` to SI for ``kind``."""
+    known = TABLE.get((unit_text, kind))
+    return known if known is not None else pint_affine(unit_text, kind)
+
+
+def pint_affine(unit_text: str, kind: str) -> tuple[float, float]:
+    """(scale, offset) for ``unit_text`` as ``kind``, asked of pint itself."""
     ureg = registry()
     try:
         unit = ureg.Unit(unit_text)

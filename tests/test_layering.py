@@ -26,6 +26,7 @@ LAYERS: list[tuple[str, tuple[str, ...]]] = [
             "rulecheck.findings",
             "rulecheck.files",
             "rulecheck.units",
+            "rulecheck.unit_table",
             "rulecheck.suggest",
             "rulecheck.textscan",
             "rulecheck.resources",
@@ -36,7 +37,7 @@ LAYERS: list[tuple[str, tuple[str, ...]]] = [
     ("analysis", ("rulecheck.analysis",)),
     ("engine", ("rulecheck.engine", "rulecheck.checks")),
     ("report", ("rulecheck.report",)),
-    ("pipeline", ("rulecheck.pipeline",)),
+    ("pipeline", ("rulecheck.pipeline", "rulecheck.folder")),
     ("cli", ("rulecheck.cli", "rulecheck.__main__")),
 ]
 RANK = {name: i for i, (name, _) in enumerate(LAYERS)}

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import heapq
 from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
 from types import MappingProxyType
 from typing import Any
 
@@ -27,13 +28,11 @@ from rulecheck.analysis.result import (
 from rulecheck.input.model import Arrester, Fixture
 from rulecheck.physics.constants import STANDARD_ATMOSPHERE
 from rulecheck.physics.surge import (
+    closure_time_for_limit,
     column_separates,
-    critical_time,
-    joukowsky,
-    min_safe_closure_time,
     screening_minimum,
-    surge_pressure,
 )
+from rulecheck.physics.surge_paths import path_surges
 from rulecheck.physics.wavespeed import wave_speed
 
 
@@ -127,13 +126,23 @@ def arresters_within(analysis: SteadyState, reach: float) -> dict[tuple[str, str
 
 
 def screen_surges(analysis: SteadyState) -> SurgeScreening:
-    """Screen every fixture valve of the layout, per side."""
+    """Screen every fixture valve of the layout, per side.
+
+    Two passes: the first finds each side's path, protector and the per-pipe figures of
+    its path; the formulas then run once over all paths (``physics.surge_paths``, bit for
+    bit the per-path functions of ``physics.surge``); the second builds the events.
+    """
     layout, profile = analysis.layout, analysis.profile
     speeds = pipe_wave_speeds(analysis)
+    speed_of = speeds.tolist()
+    area_of = [pipe.area for pipe in layout.pipes]
     reach = arresters_within(analysis, profile.arrester_distance)
     arresters = {a.id: a for a in layout.arresters}
-    events: list[ValveEvent] = []
     served: dict[str, list[tuple[Fixture, str, float]]] = {a.id: [] for a in layout.arresters}
+    sides: list[_Side] = []
+    lengths: list[float] = []
+    wave: list[float] = []
+    stopped: list[float] = []
     for fixture in layout.fixtures:
         for side in ("cold", "hot"):
             point = fixture.side_point(side)
@@ -146,7 +155,32 @@ def screen_surges(analysis: SteadyState) -> SurgeScreening:
                 units = fixture.wsfu.cold if side == "cold" else fixture.wsfu.hot
                 served[protector].append((fixture, side, units))
             chambers = tuple(a for _, a in nearby if arresters[a].kind != "sealed")
-            events.append(_screen_one(analysis, speeds, fixture, side, point, protector, chambers))
+            path = tuple(analysis.network.path_up(point, side))
+            sides.append(_Side(fixture, side, point, protector, chambers, path, len(lengths)))
+            for i in path:
+                lengths.append(layout.pipes[i].length)
+                wave.append(speed_of[i])
+                stopped.append(fixture.flow / area_of[i])
+    piped = [s for s in sides if s.path]
+    critical, rise, surge, column = path_surges(
+        [analysis.water_for(s.side).density for s in piped],
+        lengths,
+        wave,
+        stopped,
+        [s.fixture.closure_time for s in piped],
+        [s.first for s in piped],
+    )
+    figures = dict(
+        zip(
+            (id(s) for s in piped),
+            zip(critical.tolist(), rise.tolist(), surge.tolist(), column.tolist(), strict=True),
+            strict=True,
+        )
+    )
+    events = [
+        _event(analysis, s, figures.get(id(s), (0.0, 0.0, 0.0, 0.0)), lengths, stopped)
+        for s in sides
+    ]
     return SurgeScreening(
         wave_speed=speeds,
         events=tuple(events),
@@ -157,31 +191,41 @@ def screen_surges(analysis: SteadyState) -> SurgeScreening:
     )
 
 
-def _screen_one(
+@dataclass(frozen=True)
+class _Side:
+    """One fixture side as the first pass finds it; ``first``: where its path's pipes
+    begin in the flat per-pipe lists."""
+
+    fixture: Fixture
+    side: str
+    point: str
+    protector: str | None
+    chambers: tuple[str, ...]
+    path: tuple[int, ...]
+    first: int
+
+
+def _event(
     analysis: SteadyState,
-    speeds: np.ndarray,
-    fixture: Fixture,
-    side: str,
-    point: str,
-    protector: str | None,
-    chambers: tuple[str, ...],
+    at: _Side,
+    figures: tuple[float, float, float, float],
+    all_lengths: list[float],
+    all_stopped: list[float],
 ) -> ValveEvent:
-    layout, profile = analysis.layout, analysis.profile
+    """The screening event of one side from its path figures (T_c, Joukowsky, surge,
+    sum L dv)."""
+    profile = analysis.profile
+    fixture, side, point, protector, path = at.fixture, at.side, at.point, at.protector, at.path
     water = analysis.water_for(side)
-    path = tuple(analysis.network.path_up(point, side))
-    pipes = [layout.pipes[i] for i in path]
-    lengths = [p.length for p in pipes]
-    a = [float(speeds[i]) for i in path]
-    dv = [fixture.flow / p.area for p in pipes]
-    t_c = critical_time(lengths, a) if path else 0.0
+    lengths = all_lengths[at.first : at.first + len(path)]
+    dv = all_stopped[at.first : at.first + len(path)]
+    t_c, rise, surge, column = figures
     t = fixture.closure_time
-    surge = surge_pressure(water.density, lengths, a, dv, t) if path else 0.0
     smax, smin = analysis.static_max[point], analysis.static_min[point]
     unprotected = smax + surge
     # static min − surge; below the vapour pressure it is not a pressure: the column
     # separates and the water stays at p_v (engineering-basis §7)
     drawn_down = smin - surge
-    rise = float(joukowsky(water.density, a[0], dv[0])) if path else 0.0
     cap = profile.surge_limit if protector else None
     return ValveEvent(
         fixture=fixture,
@@ -199,13 +243,14 @@ def _screen_one(
         peak=min(unprotected, profile.surge_limit) if protector else unprotected,
         min_pressure=screening_minimum(smin, surge, water.vapour_pressure, STANDARD_ATMOSPHERE),
         min_safe_closure=(
-            min_safe_closure_time(water.density, lengths, dv, smax, profile.surge_limit)
+            # physics.surge.min_safe_closure_time of the path, its sum L dv already made
+            closure_time_for_limit(water.density * column, smax, profile.surge_limit)
             if path
             else 0.0
         ),
         column_momentum=water.density * sum(x * v for x, v in zip(lengths, dv, strict=True)),
         protected_by=protector,
-        nearby_air_chambers=chambers,
+        nearby_air_chambers=at.chambers,
         joukowsky=rise,
         surge_formula="joukowsky" if surge >= rise * (1 - 1e-12) else "slow-closure",
         pipe_peaks=pipe_peaks_on_path(analysis, path, surge, cap),

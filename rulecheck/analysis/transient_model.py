@@ -144,12 +144,15 @@ def build_event_network(
     index = {n: i for i, n in enumerate(nodes)}
     on_path = set(event.path)
     pipes, ids = [], []
-    for node in nodes[1:]:
+    tree_pipes = [layout.pipes[tree.parent[node]] for node in nodes[1:]]
+    # every pipe's friction factor in one vectorised Colebrook solve
+    inner = np.array([p.inner_diameter for p in tree_pipes])
+    area = np.array([p.area for p in tree_pipes])
+    roughness = np.array([p.material.roughness for p in tree_pipes])
+    re = reynolds_number(event.flow / area, inner, water.density, water.viscosity)
+    factors = np.atleast_1d(friction_factor(re, roughness / inner)).tolist()
+    for node, pipe, f in zip(nodes[1:], tree_pipes, factors, strict=True):
         k = tree.parent[node]
-        pipe = layout.pipes[k]
-        velocity = event.flow / pipe.area
-        re = reynolds_number(velocity, pipe.inner_diameter, water.density, water.viscosity)
-        f = friction_factor(re, pipe.material.roughness / pipe.inner_diameter)
         # physical length for the waves; the fittings allowance goes into the friction [D]
         pipes.append(
             TransientPipe(

@@ -14,12 +14,17 @@ import os
 import sys
 import traceback
 from collections.abc import Callable
-
-from rich.console import Console
+from typing import TYPE_CHECKING, cast
 
 from rulecheck import __version__
 from rulecheck.cli import analyze, catalog, check, explain, info, simulate
-from rulecheck.cli.common import DEBUG_OPTION, Parser, UsageError, print_input_error
+from rulecheck.cli.common import (
+    DEBUG_OPTION,
+    LazyConsole,
+    Parser,
+    UsageError,
+    print_input_error,
+)
 from rulecheck.errors import (
     EXIT_BROKEN_PIPE,
     EXIT_INPUT,
@@ -31,7 +36,10 @@ from rulecheck.errors import (
 from rulecheck.files import OutputError
 from rulecheck.report import CAUTION
 
-Run = Callable[[argparse.Namespace, Console], int]
+if TYPE_CHECKING:
+    from rich.console import Console
+
+Run = Callable[[argparse.Namespace, "Console"], int]
 
 #: command name -> (adds its arguments, runs it), in the order ``--help`` lists them
 COMMANDS: dict[str, tuple[Callable[[argparse._SubParsersAction], None], Run]] = {
@@ -104,7 +112,10 @@ def internal_error_message(exc: BaseException, argv: list[str]) -> str:
 
 def _run(argv: list[str]) -> int:
     # NO_COLOR (https://no-color.org): no escape codes at all, bold included
-    console = Console(highlight=False, color_system=None if os.environ.get("NO_COLOR") else "auto")
+    console = cast(
+        "Console",
+        LazyConsole(highlight=False, color_system=None if os.environ.get("NO_COLOR") else "auto"),
+    )
     try:
         args = build_parser().parse_args(argv)
         if args.command is None:

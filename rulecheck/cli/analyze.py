@@ -4,11 +4,13 @@ from __future__ import annotations
 
 import argparse
 import sys
-
-from rich.console import Console
+from typing import TYPE_CHECKING
 
 from rulecheck.errors import EXIT_OK
 from rulecheck.input.profiles import profile_ids
+
+if TYPE_CHECKING:  # rich is imported only by the text output
+    from rich.console import Console
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:

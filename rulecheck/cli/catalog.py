@@ -14,9 +14,7 @@ import argparse
 import json
 import re
 import sys
-from typing import Any
-
-from rich.console import Console
+from typing import TYPE_CHECKING, Any
 
 from rulecheck.cli.common import UsageError
 from rulecheck.errors import EXIT_OK
@@ -25,6 +23,9 @@ from rulecheck.input.model import FixtureType, Material
 from rulecheck.input.profiles import default_profile_id, get_profile, profile_ids
 from rulecheck.suggest import suggest
 from rulecheck.units import fmt
+
+if TYPE_CHECKING:  # rich is imported only when text is written
+    from rich.console import Console
 
 _TAG = re.compile(r"\[(S(?::[^\]]*)?|M|CP|D)\]")
 

@@ -4,11 +4,9 @@ from __future__ import annotations
 
 import argparse
 import sys
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 from pathlib import Path
-from typing import Any
-
-from rich.console import Console
+from typing import TYPE_CHECKING, Any
 
 from rulecheck.cli.common import UsageError, print_input_error
 from rulecheck.cli.outputs import LAYOUT_SUFFIXES, REPLACE_OPTION, OutputRefused, guard_outputs
@@ -20,6 +18,9 @@ from rulecheck.files import UnreadableFile, atomic_output
 from rulecheck.findings import SEVERITY_RANK, Finding
 from rulecheck.input.profiles import profile_ids
 from rulecheck.report.formats import FORMATS, CheckReport
+
+if TYPE_CHECKING:  # rich is imported only by the text output
+    from rich.console import Console
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -68,11 +69,25 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         "--no-waivers", action="store_true", help="audit mode: ignore the layouts' waivers"
     )
     check.add_argument(
+        "--jobs",
+        type=_jobs,
+        default=None,
+        metavar="N",
+        help="check the files on N processes (default: all usable cores; the report "
+        "is the same on any number)",
+    )
+    check.add_argument(
         "--transient",
         action="store_true",
         help="simulate every quick-closing valve (method of characteristics) "
         "and judge surge peak and column separation on the simulation",
     )
+
+
+def _jobs(text: str) -> int:
+    if not text.isdigit() or not 1 <= int(text) <= 256:
+        raise argparse.ArgumentTypeError(f"expected a whole number from 1 to 256, got {text!r}")
+    return int(text)
 
 
 def collect_paths(raw: list[str], skip: Callable[[Path], bool] | None = None) -> list[Path]:
@@ -102,7 +117,7 @@ def reaches(finding: Finding, fail_on: str) -> bool:
 def run(args: argparse.Namespace, console: Console) -> int:
     from rulecheck.analysis import AnalysisOptions
     from rulecheck.engine import baseline
-    from rulecheck.pipeline import check_file
+    from rulecheck.folder import check_files
 
     config = load_config(args.config)
     settings = config.apply(Settings(honour_waivers=not args.no_waivers))
@@ -121,18 +136,20 @@ def run(args: argparse.Namespace, console: Console) -> int:
     date = report_date() if chosen.detail else ""
     details: dict[str, Any] = {}
     unread = 0
-    for path in paths:
-        try:
-            result = check_file(path, settings, args.profile or config.profile_for(path), options)
-        except InputError as exc:
-            errors.append(exc)
-            unread += isinstance(exc, UnreadableFile)
+    profile_for = (lambda _path: args.profile) if args.profile else config.profile_for
+    outcomes = (
+        _with_details(paths, settings, profile_for, options, details)
+        if chosen.detail  # the HTML report draws each file's analysis: kept in this process
+        else check_files(paths, settings, profile_for, options, args.jobs)
+    )
+    for outcome in outcomes:
+        if isinstance(outcome, InputError):
+            errors.append(outcome)
+            unread += isinstance(outcome, UnreadableFile)
             if not FORMATS[args.format].carries_errors:
-                print_input_error(exc)
+                print_input_error(outcome)
             continue
-        results.append((result.path, result.profile, result.findings))
-        if chosen.detail:
-            details[result.path] = file_detail(result)
+        results.append(outcome)
     if args.write_baseline and errors:
         print("rulecheck: baseline not written: fix the input errors first", file=sys.stderr)
     elif args.write_baseline:
@@ -170,12 +187,35 @@ def refuse_overwrite(args: argparse.Namespace, inputs: list[Path], config: Path 
         raise UsageError(f"rulecheck check: {exc}") from None
 
 
+def _with_details(
+    paths: list[Path],
+    settings: Settings,
+    profile_for: Callable[[Path], str | None],
+    options: Any,
+    details: dict[str, Any],
+) -> Iterator[tuple[str, str, list[Finding]] | InputError]:
+    """Check ``paths`` one by one in this process, keeping what the HTML report draws of
+    each (its analysis, hash and plot traces) in ``details``."""
+    from rulecheck import pipeline
+
+    for path in paths:
+        try:
+            result = pipeline.check_file(path, settings, profile_for(path), options)
+        except InputError as exc:
+            yield exc
+            continue
+        details[result.path] = file_detail(result)
+        yield result.path, result.profile, result.findings
+
+
 def write_report(args: argparse.Namespace, console: Console, report: CheckReport) -> None:
     """The report in ``--format`` to standard output, or to ``--output`` replaced atomically
     (UTF-8, ``\\n`` line ends; colour only on a terminal, never in a file)."""
     write = FORMATS[args.format].write
     if args.output is None:
-        write(report, sys.stdout, console.is_terminal and console.color_system is not None)
+        # only the text output uses escape codes (formats.py): the others never ask rich
+        colour = args.format == "text" and console.is_terminal
+        write(report, sys.stdout, colour and console.color_system is not None)
         return
     with atomic_output(args.output) as handle:
         write(report, handle, False)

@@ -15,8 +15,7 @@ import re
 import sys
 from collections.abc import Callable
 from functools import cache
-
-from rich.console import Console
+from typing import TYPE_CHECKING
 
 from rulecheck.analysis import Analysis
 from rulecheck.analysis.result import ValveEvent
@@ -33,6 +32,9 @@ from rulecheck.report.explain import explain_text
 from rulecheck.resources import data_dir
 from rulecheck.suggest import suggest
 from rulecheck.units import fmt
+
+if TYPE_CHECKING:  # rich is imported only by the text output
+    from rich.console import Console
 
 EXAMPLE = "examples/dishwasher-run.yaml"
 

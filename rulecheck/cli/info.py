@@ -4,10 +4,12 @@ from __future__ import annotations
 
 import argparse
 import sys
-
-from rich.console import Console
+from typing import TYPE_CHECKING
 
 from rulecheck.errors import EXIT_OK
+
+if TYPE_CHECKING:  # rich is imported only by the text output
+    from rich.console import Console
 
 
 def add_rules_parser(sub: argparse._SubParsersAction) -> None:

@@ -7,10 +7,7 @@ import csv
 import io
 import sys
 import time
-from typing import Any
-
-from rich.console import Console
-from rich.progress import Progress
+from typing import TYPE_CHECKING, Any
 
 from rulecheck.cli.common import UsageError
 from rulecheck.errors import EXIT_OK, InputError, Position
@@ -18,6 +15,9 @@ from rulecheck.findings import _clean
 from rulecheck.input.profiles import profile_ids
 from rulecheck.suggest import suggest
 from rulecheck.units import fmt
+
+if TYPE_CHECKING:  # rich is imported only when something is shown with it
+    from rich.console import Console
 
 
 def _pick_event(analysis: Any, spec: str) -> Any:
@@ -93,6 +93,9 @@ def run(args: argparse.Namespace, console: Console) -> int:
 
     def progress(fraction: float) -> None:  # a bar only for runs longer than a second
         if "p" not in bar and time.monotonic() - started > 1.0 and console.is_terminal:
+            from rich.console import Console
+            from rich.progress import Progress
+
             bar["p"] = Progress(console=Console(stderr=True), transient=True)
             bar["p"].start()
             bar["task"] = bar["p"].add_task("simulating", total=1.0)

@@ -8,9 +8,7 @@ from functools import cache
 from types import MappingProxyType
 from typing import Any
 
-import yaml
-
-from rulecheck.resources import read_text
+from rulecheck.resources import read_yaml
 from rulecheck.units import to_si
 
 
@@ -52,7 +50,7 @@ class Profile:
 
 @cache
 def _raw() -> dict:
-    data: dict = yaml.safe_load(read_text("rules", "profiles.yaml"))
+    data: dict = read_yaml("rules", "profiles.yaml")
     return data
 
 
@@ -103,7 +101,7 @@ class ArresterClass:
 
 @cache
 def arrester_classes() -> dict[str, ArresterClass]:
-    raw = yaml.safe_load(read_text("rules", "arresters.yaml"))["classes"]
+    raw = read_yaml("rules", "arresters.yaml")["classes"]
     return {
         name: ArresterClass(
             name,
@@ -126,4 +124,4 @@ def smallest_class_for(wsfu: float) -> str | None:
 @cache
 def aa_appliances() -> frozenset[str]:
     """Fixture types a class AA arrester may serve (one residential appliance)."""
-    return frozenset(yaml.safe_load(read_text("rules", "arresters.yaml"))["aa_appliances"])
+    return frozenset(read_yaml("rules", "arresters.yaml")["aa_appliances"])

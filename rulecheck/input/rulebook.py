@@ -10,10 +10,8 @@ from dataclasses import dataclass, field
 from functools import cache
 from typing import Any
 
-import yaml
-
 from rulecheck.findings import SEVERITIES
-from rulecheck.resources import data_dir
+from rulecheck.resources import data_dir, load_yaml
 from rulecheck.units import to_si
 
 RULE_FILES = ("hydraulic-rules.yaml", "surge-rules.yaml", "housekeeping-rules.yaml")
@@ -54,7 +52,7 @@ def rule_specs() -> dict[str, RuleSpec]:
         entry = folder / filename
         if not entry.is_file():
             continue
-        for raw in yaml.safe_load(entry.read_text(encoding="utf-8"))["rules"]:
+        for raw in load_yaml(entry.read_text(encoding="utf-8"))["rules"]:
             if raw["severity"] not in SEVERITIES:
                 raise RuntimeError(f"rule {raw['id']}: unknown severity {raw['severity']!r}")
             specs[raw["id"]] = RuleSpec(

@@ -21,15 +21,11 @@ import numbers
 import re
 from collections.abc import Callable
 from functools import cache
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-import jsonschema
-from jsonschema.exceptions import ValidationError
-
-try:  # jsonschema's own equality (1 is not true, 1.0 is 1) keeps const/enum exactly alike
-    from jsonschema._utils import equal as _json_equal
-except ImportError:  # pragma: no cover - a private helper; without it no shortcut for them
-    _json_equal = None
+if TYPE_CHECKING:  # jsonschema is imported only when a file fails the compiled check
+    import jsonschema
+    from jsonschema.exceptions import ValidationError
 
 from rulecheck.errors import ProblemCollector
 from rulecheck.input.loader import Document, JsonPath
@@ -51,6 +47,8 @@ def schema_path() -> str:
 
 @cache
 def _validator() -> jsonschema.Draft202012Validator:
+    import jsonschema
+
     return jsonschema.Draft202012Validator(layout_schema())
 
 
@@ -299,11 +297,8 @@ def _compile(
     if names and not (strict in families and families[strict] & set(schema)):
         tests = [_TYPES[name] for name in names]
         checks.append(tests[0] if len(tests) == 1 else lambda x: any(t(x) for t in tests))
-    if ("const" in schema or "enum" in schema) and _json_equal is None:
-        raise _Unsupported("const/enum without jsonschema's equality")
     if "const" in schema:
-        const = schema["const"]
-        checks.append(lambda x: _json_equal(x, const))
+        checks.append(_const(schema["const"]))
     if "enum" in schema:
         checks.append(_enum(schema["enum"]))
     if _OBJECT & set(schema):
@@ -359,13 +354,34 @@ def _ref(ref: Any, root: dict[str, Any], refs: dict[str, list[Check]]) -> Check:
     return lambda x: cell[0](x)
 
 
+def _json_equal() -> Callable[[Any, Any], bool]:
+    """jsonschema's own equality (1 is not true, 1.0 is 1), for const/enum values other
+    than texts and numbers (none in the shipped schema, so jsonschema stays unimported)."""
+    try:
+        from jsonschema._utils import equal
+    except ImportError as exc:  # pragma: no cover - a private helper; no shortcut without it
+        raise _Unsupported("const/enum without jsonschema's equality") from exc
+    return equal  # type: ignore[no-any-return]
+
+
+def _const(const: Any) -> Check:
+    """Equal to ``const`` as JSON Schema counts equality (1 == 1.0, true is not 1)."""
+    if isinstance(const, str):
+        return lambda x: isinstance(x, str) and x == const
+    if _is_number(const):
+        return lambda x: _is_number(x) and bool(x == const)
+    equal = _json_equal()
+    return lambda x: equal(x, const)
+
+
 def _enum(values: Any) -> Check:
     if not isinstance(values, list):
         raise _Unsupported("enum")
     if all(isinstance(v, str) for v in values):
         texts = frozenset(values)  # a non-text instance equals none of them
         return lambda x: isinstance(x, str) and x in texts
-    return lambda x: any(_json_equal(v, x) for v in values)
+    equal = _json_equal()
+    return lambda x: any(equal(v, x) for v in values)
 
 
 def _object(

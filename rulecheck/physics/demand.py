@@ -6,10 +6,9 @@ from dataclasses import dataclass
 from functools import cache
 
 import numpy as np
-import yaml
 from numpy.typing import ArrayLike
 
-from rulecheck.resources import read_text
+from rulecheck.resources import read_yaml
 
 US_GALLON = 231 * 0.0254**3  # [m^3], 231 in^3 exactly [S: NIST SP 811]
 GPM = US_GALLON / 60.0  # 1 gpm = 6.30901964e-5 m^3/s [S: NIST SP 811]
@@ -54,7 +53,7 @@ def hunter_table() -> HunterTable:
     1. International Plumbing Code, Appendix E, Table E103.3(3)
        [S: IPC Table E103.3(3) for the cells tagged S; M for the rest].
     """
-    data = yaml.safe_load(read_text("rules", "hunter.yaml"))
+    data = read_yaml("rules", "hunter.yaml")
     rows = data["rows"]
     columns = {
         key: np.array([np.nan if row[key] is None else row[key] for row in rows], dtype=float)
@@ -266,7 +265,7 @@ def loading_unit_table() -> LoadingUnitTable:
        (1 LU = 0.1 L/s) [S: via a published excerpt]; curve rows [M: from memory;
        verify against the adopted edition].
     """
-    data = yaml.safe_load(read_text("rules", "loading-units.yaml"))
+    data = read_yaml("rules", "loading-units.yaml")
     lu = np.array([row["lu"] for row in data["rows"]], dtype=float)
     flow = np.array([row["flow"] for row in data["rows"]], dtype=float)
     if np.any(np.diff(lu) <= 0) or np.any(np.diff(flow) < 0) or np.any(flow > 0.1 * lu + 1e-12):

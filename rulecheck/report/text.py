@@ -13,13 +13,14 @@ for editors and grep is :func:`render_lines`.
 from __future__ import annotations
 
 from collections import Counter
-
-from rich.console import Console
-from rich.text import Text
+from typing import TYPE_CHECKING
 
 from rulecheck.errors import visible
 from rulecheck.findings import SEVERITIES, Finding
 from rulecheck.report import CAUTION
+
+if TYPE_CHECKING:  # rich is imported when text is written (json_report imports this module)
+    from rich.console import Console
 
 _STYLE = {
     "hazard": "bold magenta",
@@ -39,6 +40,8 @@ def summary_counts(findings: list[Finding]) -> Counter[str]:
 def _words(console: Console, text: str, indent: int, style: str = "", lead: str = "") -> None:
     """``lead`` + ``text`` wrapped at spaces to the console width, ``indent`` columns in;
     lines after the first hang under the text, past the ``lead``."""
+    from rich.text import Text
+
     hang = indent + len(lead)
     for k, line in enumerate(_wrap(visible(text), max(console.width - hang, 20))):
         start = " " * indent + lead if k == 0 else " " * hang
@@ -46,6 +49,8 @@ def _words(console: Console, text: str, indent: int, style: str = "", lead: str 
 
 
 def _block(console: Console, f: Finding, number: int) -> None:
+    from rich.text import Text
+
     waived = f.waived is not None
     head = Text("  ")
     head.append(f.severity, style="dim" if waived else _STYLE[f.severity])
@@ -72,6 +77,8 @@ def render_check(
 ) -> None:
     """The grouped findings, the sources, then the summary and the caution; ``unread`` of
     the ``failed`` files could not be read."""
+    from rich.text import Text
+
     every: list[Finding] = []
     sources: dict[str, int] = {}
     for path, findings in results:
@@ -120,6 +127,8 @@ def summary_line(every: list[Finding], files: int, hidden: int, bad: int, unread
 
 def _hanging(console: Console, label: str, text: str) -> None:
     """``  [n] text`` with the text's later lines under its first word."""
+    from rich.text import Text
+
     indent = len(label) + 3
     for k, line in enumerate(_wrap(visible(text), max(console.width - indent, 20))):
         out = Text(f"  {label} ", style="dim") if k == 0 else Text(" " * indent)
