@@ -11,7 +11,7 @@ from rulecheck.findings import Finding
 from rulecheck.input.model import Layout, Pipe
 
 
-def _velocity_limit_for(ctx: RuleContext, pipe: Pipe) -> float:
+def velocity_limit_for(ctx: RuleContext, pipe: Pipe) -> float:
     if pipe.service == "cold":
         return ctx.limit("cold", "velocity")
     if pipe.service == "hot-return":
@@ -37,7 +37,7 @@ def velocity_limit(ctx: RuleContext) -> Iterator[Finding]:
     analysis = ctx.analysis
     for index, pipe in enumerate(analysis.layout.pipes):
         velocity = float(analysis.velocity[index])
-        limit = _velocity_limit_for(ctx, pipe)
+        limit = velocity_limit_for(ctx, pipe)
         if velocity <= limit:
             continue
         flow = float(analysis.flow[index])
