@@ -35,6 +35,7 @@ from rulecheck.analysis.steady import device_effect
 from rulecheck.input.model import Layout, Pipe
 from rulecheck.physics.constants import STANDARD_GRAVITY
 from rulecheck.physics.friction import darcy_pressure_drop
+from rulecheck.units import fmt
 
 #: pressure kept in hand at each fixture [Pa], so float rounding never turns a pass into
 #: a shortfall by a billionth of a pascal in the analysis of the sized layout
@@ -553,7 +554,7 @@ def _binding(
         why = []
         velocity = flow / _area(*pipe.material.sizes[smaller])
         if velocity > velocity_limit[i]:
-            why.append(f"velocity ({smaller} would run at {velocity:.3g} m/s)")
+            why.append(f"velocity ({smaller} would run at {fmt(velocity, 'velocity', steady.layout.units)})")
         rule = minimum.get(pipe.id)
         if rule and inch_labelled(pipe) and (nominal_inches(smaller) or 0.0) < rule.inches - _TOL:
             why.append(rule.reason)

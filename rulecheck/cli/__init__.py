@@ -18,7 +18,7 @@ from collections.abc import Callable
 from rich.console import Console
 
 from rulecheck import __version__
-from rulecheck.cli import analyze, check, explain, info, simulate
+from rulecheck.cli import analyze, check, explain, info, simulate, size
 from rulecheck.cli.common import DEBUG_OPTION, Parser, UsageError, print_input_error
 from rulecheck.errors import EXIT_INPUT, EXIT_INTERNAL, EXIT_INTERRUPTED, InputError, visible
 from rulecheck.files import OutputError
@@ -31,6 +31,7 @@ COMMANDS: dict[str, tuple[Callable[[argparse._SubParsersAction], None], Run]] = 
     "check": (check.add_parser, check.run),
     "analyze": (analyze.add_parser, analyze.run),
     "simulate": (simulate.add_parser, simulate.run),
+    "size": (size.add_parser, size.run),
     "rules": (info.add_rules_parser, info.run_rules),
     "explain": (explain.add_parser, explain.run),
     "schema": (info.add_schema_parser, info.run_schema),
