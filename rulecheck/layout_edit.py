@@ -36,8 +36,10 @@ def _entry(item: dict[str, str], flow: bool, column: int, newline: str) -> str:
     if flow:
         inner = ", ".join(f"{k}: {v}" for k, v in item.items())
         return f"{pad}- {{{inner}}}{newline}"
-    lines = [f"{pad}- {k}: {v}" if i == 0 else f"{pad}  {k}: {v}" for i, (k, v) in
-             enumerate(item.items())]
+    lines = [
+        f"{pad}- {k}: {v}" if i == 0 else f"{pad}  {k}: {v}"
+        for i, (k, v) in enumerate(item.items())
+    ]
     return newline.join(lines) + newline
 
 
@@ -52,6 +54,8 @@ def _dash_column(text: str, node: yaml.Node) -> int:
 def edit_layout(text: str, sizes: dict[str, str], arresters: Sequence[dict[str, str]]) -> str:
     """``text`` with pipe sizes set to ``sizes`` (pipe id → label) and ``arresters`` added."""
     root = yaml.compose(text, Loader=_Loader)
+    if not isinstance(root, yaml.MappingNode):
+        raise ValueError("a layout is a mapping at the top")
     newline = "\r\n" if "\r\n" in text else "\n"
     edits: list[tuple[int, int, str]] = []
     pipes = _value(root, "pipes")
@@ -77,7 +81,10 @@ def edit_layout(text: str, sizes: dict[str, str], arresters: Sequence[dict[str, 
 
 
 def _arrester_edit(
-    text: str, root: yaml.MappingNode, arresters: Sequence[dict[str, str]], column: int,
+    text: str,
+    root: yaml.MappingNode,
+    arresters: Sequence[dict[str, str]],
+    column: int,
     newline: str,
 ) -> tuple[int, int, str]:
     node = _value(root, "arresters")
@@ -91,8 +98,9 @@ def _arrester_edit(
         body = "".join(_entry(a, flow, col, newline) for a in arresters)
         return at, at, prefix + body
     if isinstance(node, yaml.SequenceNode):  # flow sequence: [] or [{…}, …]
-        inner = ", ".join("{" + ", ".join(f"{k}: {v}" for k, v in a.items()) + "}"
-                          for a in arresters)
+        inner = ", ".join(
+            "{" + ", ".join(f"{k}: {v}" for k, v in a.items()) + "}" for a in arresters
+        )
         close = node.end_mark.index - 1  # the "]"
         joiner = ", " if node.value else ""
         return close, close, joiner + inner

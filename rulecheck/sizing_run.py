@@ -18,7 +18,13 @@ import yaml
 
 from rulecheck.analysis import Analysis, analyse
 from rulecheck.analysis.arrester_plan import Proposal, propose_arresters
-from rulecheck.analysis.sizing import Minimum, SizingResult, nominal_inches, size_pipes, sized_layout
+from rulecheck.analysis.sizing import (
+    Minimum,
+    SizingResult,
+    nominal_inches,
+    size_pipes,
+    sized_layout,
+)
 from rulecheck.analysis.steady import steady_state
 from rulecheck.checks.hydraulic import velocity_limit_for
 from rulecheck.engine.context import RuleContext, Settings
@@ -73,7 +79,10 @@ def code_minimums(layout: Layout) -> dict[str, Minimum]:
         if pipe.start in supplies and pipe.service == "cold":
             inches = nominal_inches(str(service["size"])) or 0.0
             options.append(
-                Minimum(inches, f"code minimum {service['size']} in, water service ({service['source']})")
+                Minimum(
+                    inches,
+                    f"code minimum {service['size']} in, water service ({service['source']})",
+                )
             )
         if pipe.end in at_point:
             options.append(at_point[pipe.end])

@@ -1,3 +1,4 @@
+# ruff: noqa: E501  (layout text and table rows read best on one line)
 """`rulecheck size`: exactness, local optimality, the sized samples, the written file.
 
 Outside references: scipy's MILP solver (HiGHS) for the least-material optimum of each
@@ -19,7 +20,13 @@ import pytest
 from scipy.optimize import Bounds, LinearConstraint, milp
 
 from rulecheck.analysis import analyse
-from rulecheck.analysis.sizing import catalog_order, inch_labelled, nominal_inches, size_pipes, sized_layout
+from rulecheck.analysis.sizing import (
+    catalog_order,
+    inch_labelled,
+    nominal_inches,
+    size_pipes,
+    sized_layout,
+)
 from rulecheck.analysis.steady import device_effect, steady_state
 from rulecheck.cli import main
 from rulecheck.engine.context import Settings
@@ -84,18 +91,23 @@ def _milp_optimum(path: Path) -> float:
             od, wall = p.material.sizes[label]
             if keep and label != p.size:
                 continue
-            if not keep and float(steady.flow[i]) / (math.pi * (od - 2 * wall) ** 2 / 4) > limits[i]:
+            if (
+                not keep
+                and float(steady.flow[i]) / (math.pi * (od - 2 * wall) ** 2 / 4) > limits[i]
+            ):
                 continue
             m = minimum.get(p.id)
             if not keep and m and inch_labelled(p) and nominal_inches(label) < m.inches - 1e-9:
                 continue
             variables.append((i, label))
     index = {v: n for n, v in enumerate(variables)}
-    cost = np.array([layout.pipes[i].length * layout.pipes[i].material.sizes[s][0] for i, s in variables])
+    cost = np.array(
+        [layout.pipes[i].length * layout.pipes[i].material.sizes[s][0] for i, s in variables]
+    )
     rows, lo, hi = [], [], []
     for i in tree_pipes:
         row = np.zeros(len(variables))
-        for (j, s), n in index.items():
+        for (j, _s), n in index.items():
             if j == i:
                 row[n] = 1
         rows.append(row), lo.append(1), hi.append(1)
@@ -149,13 +161,19 @@ def _milp_optimum(path: Path) -> float:
                         start = min(start - lift - drops[(i, fixed)] - loss, cap)
                         const -= lift + loss
                         continue
-                    for (j, s), n in index.items():
+                    for (j, s_), n in index.items():
                         if j == i:
-                            row[n] += drops[(j, s)]
-                r.append(row), lo_.append(-np.inf), hi_.append(start - const - fx.min_pressure - 1e-6)
+                            row[n] += drops[(j, s_)]
+                (
+                    r.append(row),
+                    lo_.append(-np.inf),
+                    hi_.append(start - const - fx.min_pressure - 1e-6),
+                )
         for node, i in itertools.chain.from_iterable(t.parent.items() for t in net.trees.values()):
             p = layout.pipes[i]
-            for c_node, c in itertools.chain.from_iterable(t.parent.items() for t in net.trees.values()):
+            for _c_node, c in itertools.chain.from_iterable(
+                t.parent.items() for t in net.trees.values()
+            ):
                 child = layout.pipes[c]
                 if child.start != node or p.keep_size or child.keep_size:
                     continue
@@ -169,11 +187,17 @@ def _milp_optimum(path: Path) -> float:
                         row[n] -= nominal_inches(s)
                 if any(row):
                     r.append(row), lo_.append(-np.inf), hi_.append(1e-9)
-        res = milp(cost, constraints=LinearConstraint(np.array(r), lo_, hi_),
-                   integrality=np.ones(len(variables)), bounds=Bounds(0, 1))
+        res = milp(
+            cost,
+            constraints=LinearConstraint(np.array(r), lo_, hi_),
+            integrality=np.ones(len(variables)),
+            bounds=Bounds(0, 1),
+        )
         if res.status == 0:
             best = min(best, res.fun)
-    fixed_cost = sum(p.length * p.outside_diameter for n, p in enumerate(layout.pipes) if n not in tree_pipes)
+    fixed_cost = sum(
+        p.length * p.outside_diameter for n, p in enumerate(layout.pipes) if n not in tree_pipes
+    )
     return best + fixed_cost
 
 
@@ -249,8 +273,10 @@ def _random_layout(rng: random.Random, tmp: Path, n: int) -> Path:
     for pid, a, b in pipes:
         keep = ", keep_size: true" if rng.random() < 0.1 else ""
         size = rng.choice(["3/8", "1/2", "3/4", "1", "1-1/4"])
-        lines.append(f"  - {{id: {pid}, from: {a}, to: {b}, material: tube-x, size: {size}, "
-                     f"length: {rng.uniform(5, 120):.1f} ft, service: cold{keep}}}")
+        lines.append(
+            f"  - {{id: {pid}, from: {a}, to: {b}, material: tube-x, size: {size}, "
+            f"length: {rng.uniform(5, 120):.1f} ft, service: cold{keep}}}"
+        )
     lines.append("fixtures:")
     leaves = [b for _, _, b in pipes if not any(a == b for _, a, _ in pipes)]
     types = ["water-closet-tank", "lavatory", "kitchen-sink", "shower", "hose-bibb"]
@@ -279,7 +305,10 @@ def _exhaustive(layout) -> float | None:
         ok = True
         for i, (p, s) in enumerate(zip(pipes, combo, strict=True)):
             od, wall = p.material.sizes[s]
-            if not p.keep_size and float(steady.flow[i]) / (math.pi * (od - 2 * wall) ** 2 / 4) > limits[i]:
+            if (
+                not p.keep_size
+                and float(steady.flow[i]) / (math.pi * (od - 2 * wall) ** 2 / 4) > limits[i]
+            ):
                 ok = False
             m = minimum.get(p.id)
             if not p.keep_size and m and nominal_inches(s) < m.inches:
@@ -341,8 +370,13 @@ def test_infeasible_names_the_fixture_shortfall_and_remedies(tmp_path: Path, cap
 
 
 def test_keep_size_is_kept_and_the_others_work_around_it(tmp_path: Path) -> None:
-    text = Path(SAMPLES[0]).read_text().replace(
-        "size: 1, length: 35 ft, service: cold}", "size: 1, length: 35 ft, service: cold, keep_size: true}"
+    text = (
+        Path(SAMPLES[0])
+        .read_text()
+        .replace(
+            "size: 1, length: 35 ft, service: cold}",
+            "size: 1, length: 35 ft, service: cold, keep_size: true}",
+        )
     )
     assert "keep_size" in text
     path = tmp_path / "kept.yaml"
@@ -431,7 +465,9 @@ def test_appendix_e_friction_per_100_ft_hand_sizing(tmp_path: Path) -> None:
     for i, p in enumerate(layout.pipes):
         for label in catalog_order(p):
             per = drops[(i, label)] / psi / ((p.length + p.fittings_length) / ft / 100)
-            v = float(steady.flow[i]) / (math.pi * (p.material.sizes[label][0] - 2 * p.material.sizes[label][1]) ** 2 / 4)
+            v = float(steady.flow[i]) / (
+                math.pi * (p.material.sizes[label][0] - 2 * p.material.sizes[label][1]) ** 2 / 4
+            )
             least = minimum[p.id].inches if p.id in minimum else 0.0
             if per <= per_100 and v <= 8 * ft and nominal_inches(label) >= least:
                 hand[p.id] = label
@@ -443,7 +479,9 @@ def test_appendix_e_friction_per_100_ft_hand_sizing(tmp_path: Path) -> None:
     cost = lambda sizes: sum(p.length * p.material.sizes[sizes[p.id]][0] for p in layout.pipes)  # noqa: E731
     assert result.material_after <= cost(hand) + 1e-12  # never more material than by hand
     assert _steady(sized_layout(layout, result.sizes)).residual["J3"] >= shower.min_pressure
-    assert per_100 > 0 and list(hand.values()) == sorted(hand.values(), key=nominal_inches, reverse=True)
+    assert per_100 > 0 and list(hand.values()) == sorted(
+        hand.values(), key=nominal_inches, reverse=True
+    )
 
 
 def test_json_output_and_diff(tmp_path: Path, capsys) -> None:

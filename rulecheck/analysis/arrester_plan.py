@@ -61,8 +61,16 @@ def _within(analysis: Analysis, point: str, side: str, reach: float) -> dict[str
 
 def _arrester(layout: Layout, p: Proposal) -> Arrester:
     cls = arrester_classes()[p.rating]
-    return Arrester(p.id, p.at, p.rating, cls.max_wsfu, "sealed", None, None,
-                    layout.positions.get(p.at) or layout.pipes[0].pos)
+    return Arrester(
+        p.id,
+        p.at,
+        p.rating,
+        cls.max_wsfu,
+        "sealed",
+        None,
+        None,
+        layout.positions.get(p.at) or layout.pipes[0].pos,
+    )
 
 
 def with_proposals(layout: Layout, proposals: list[Proposal]) -> Layout:
@@ -92,8 +100,9 @@ def propose_arresters(
         units = wsfu_within(analysis.surge, e.point, e.side, reach)
         rating = smallest_class_for(units) or "F"
         near = [e.fixture.id]
-        proposals.append(Proposal(_new_id(e.point, taken), e.point, e.side, rating, units,
-                                  tuple(near)))
+        proposals.append(
+            Proposal(_new_id(e.point, taken), e.point, e.side, rating, units, tuple(near))
+        )
         covered |= {(node, e.side) for node in _within(analysis, e.point, e.side, reach)}
     if not proposals:
         return [], analysis
@@ -103,8 +112,8 @@ def propose_arresters(
         for n, p in enumerate(proposals):
             served = result.surge.served.get(p.id, ())
             total = sum(units for _, _, units in served)
-            rating = smallest_class_for(total)
-            if rating is None:  # over class F: a second arrester at the farthest served point
+            rating = smallest_class_for(total) or ""
+            if not rating:  # over class F: a second arrester at the farthest served point
                 far = _farthest(result, p, [f.side_point(s) for f, s, _ in served])
                 proposals.append(Proposal(_new_id(far, taken), far, p.side, "F", 0.0, ()))
                 rating = "F"

@@ -27,6 +27,7 @@ import math
 import re
 from bisect import bisect_right
 from dataclasses import dataclass, field, replace
+from functools import cache
 
 import numpy as np
 
@@ -99,14 +100,17 @@ class SizingResult:
 
     @property
     def feasible(self) -> bool:
-        return not self.shortfalls and not self.too_fast and "no combination" not in "".join(
-            self.notes
+        return (
+            not self.shortfalls
+            and not self.too_fast
+            and "no combination" not in "".join(self.notes)
         )
 
 
 _INCH = re.compile(r"(?:(\d+)-)?(\d+)/(\d+)|(\d+(?:\.\d+)?)")
 
 
+@cache
 def nominal_inches(label: str) -> float | None:
     """Nominal size of an inch label (``3/4``, ``1-1/4``, ``2``) [in], else ``None``."""
     m = _INCH.fullmatch(label.strip())
@@ -120,15 +124,26 @@ def nominal_inches(label: str) -> float | None:
 def inch_labelled(pipe: Pipe) -> bool:
     """Whether the material's size labels are inch nominal sizes (metric tables label in
     millimetres: 15, 22, 28, …; an inch table has a fraction or stays at 12 and under)."""
-    values = [nominal_inches(label) for label in pipe.material.sizes]
-    if any(v is None for v in values):
+    return _inch_table(tuple(pipe.material.sizes))
+
+
+@cache
+def _inch_table(labels: tuple[str, ...]) -> bool:
+    values = [nominal_inches(label) for label in labels]
+    known = [v for v in values if v is not None]
+    if len(known) < len(values):
         return False
-    return any("/" in label for label in pipe.material.sizes) or max(values) <= 12  # type: ignore[type-var]
+    return any("/" in label for label in labels) or max(known, default=0.0) <= 12
 
 
 def catalog_order(pipe: Pipe) -> list[str]:
     """The material's sizes, smallest first (by outside diameter, as the velocity rule)."""
-    return [label for label, _ in sorted(pipe.material.sizes.items(), key=lambda kv: kv[1][0])]
+    return list(_order(tuple(pipe.material.sizes.items())))
+
+
+@cache
+def _order(items: tuple[tuple[str, tuple[float, float]], ...]) -> tuple[str, ...]:
+    return tuple(label for label, _ in sorted(items, key=lambda kv: kv[1][0]))
 
 
 def _area(od: float, wall: float) -> float:
@@ -207,10 +222,7 @@ def size_pipes(
                 pipe.start,
                 node,
                 [labels[k] for k in chosen],
-                [
-                    _nominal(pipe, labels[k], inch)
-                    for k in chosen
-                ],
+                [_nominal(pipe, labels[k], inch) for k in chosen],
                 [lift + float(drop[k]) + loss for k in chosen],
                 [pipe.length * pipe.material.sizes[labels[k]][0] for k in chosen],
                 cap,
@@ -220,8 +232,17 @@ def size_pipes(
             children.setdefault(pipe.start, []).append(edge)
     for heater in layout.heaters:
         lift = rho_g["hot"] * (z[heater.outlet] - z[heater.inlet])
-        edge = _Edge(-1, heater.inlet, heater.outlet, [""], [0.0], [lift + heater.loss], [0.0],
-                     math.inf, False)
+        edge = _Edge(
+            -1,
+            heater.inlet,
+            heater.outlet,
+            [""],
+            [0.0],
+            [lift + heater.loss],
+            [0.0],
+            math.inf,
+            False,
+        )
         children.setdefault(heater.inlet, []).append(edge)
     need: dict[str, float] = {}
     need_by: dict[str, str] = {}
@@ -247,8 +268,19 @@ def size_pipes(
     residual = _forward(roots, topo, children, chosen_k)
     if not shortfalls and not too_fast and not notes:
         reasons.update(
-            _binding(steady, edges, chosen_k, children, residual, need, need_by, drops, starts,
-                     velocity_limit, minimum)
+            _binding(
+                steady,
+                edges,
+                chosen_k,
+                children,
+                residual,
+                need,
+                need_by,
+                drops,
+                starts,
+                velocity_limit,
+                minimum,
+            )
         )
     changes = tuple(
         Change(p.id, p.size, sizes[p.id], reasons.get(p.id, ""))
@@ -554,7 +586,10 @@ def _binding(
         why = []
         velocity = flow / _area(*pipe.material.sizes[smaller])
         if velocity > velocity_limit[i]:
-            why.append(f"velocity ({smaller} would run at {fmt(velocity, 'velocity', steady.layout.units)})")
+            why.append(
+                f"velocity ({smaller} would run at "
+                f"{fmt(velocity, 'velocity', steady.layout.units)})"
+            )
         rule = minimum.get(pipe.id)
         if rule and inch_labelled(pipe) and (nominal_inches(smaller) or 0.0) < rule.inches - _TOL:
             why.append(rule.reason)
@@ -582,7 +617,9 @@ def _margins(
     margin: dict[str, tuple[float, str]] = {}
     for node in reversed(list(residual)):
         best = (
-            (residual[node] - need[node] + MARGIN, need_by[node]) if node in need else (math.inf, "")
+            (residual[node] - need[node] + MARGIN, need_by[node])
+            if node in need
+            else (math.inf, "")
         )
         for c in children.get(node, ()):
             below = margin.get(c.end, (math.inf, ""))

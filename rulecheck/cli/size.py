@@ -36,7 +36,9 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         "size", help="size the pipes (least material) and add the arresters a layout needs"
     )
     size.add_argument("path", metavar="FILE", help="layout file")
-    size.add_argument("--output", metavar="SIZED.yaml", help="write the sized layout to this new file")
+    size.add_argument(
+        "--output", metavar="SIZED.yaml", help="write the sized layout to this new file"
+    )
     size.add_argument("--diff", action="store_true", help="print a unified diff against FILE")
     size.add_argument("--format", choices=("text", "json"), default="text")
     size.add_argument("--config", metavar="FILE", help="configuration file (rulecheck.toml)")
@@ -57,18 +59,22 @@ def run(args: argparse.Namespace, console: Console) -> int:
         try:
             guard_outputs([("--output", args.output)], protected)
         except OutputRefused as exc:
-            raise UsageError(f"rulecheck size: {exc}".replace(
-                "write the report to a .txt, .json or .sarif file", "give a new file name"
-            )) from None
+            raise UsageError(
+                f"rulecheck size: {exc}".replace(
+                    "write the report to a .txt, .json or .sarif file", "give a new file name"
+                )
+            ) from None
     settings = config.apply(Settings())
     result = size_file(args.path, settings, args.profile or config.profile_for(Path(args.path)))
     text = edited = ""
     if result.sizing.feasible:
         with open(args.path, encoding="utf-8-sig", newline="") as handle:
             text = handle.read()
-        edited = edit_layout(text, result.sizing.sizes, [
-            {"id": p.id, "at": p.at, "rating": p.rating} for p in result.proposals
-        ])
+        edited = edit_layout(
+            text,
+            result.sizing.sizes,
+            [{"id": p.id, "at": p.at, "rating": p.rating} for p in result.proposals],
+        )
         if args.output is not None:
             with atomic_output(args.output) as handle:
                 handle.write(edited)
@@ -79,10 +85,14 @@ def run(args: argparse.Namespace, console: Console) -> int:
     else:
         _text(result, out, console)
     if args.diff and result.sizing.feasible:
-        out.writelines(difflib.unified_diff(
-            text.splitlines(keepends=True), edited.splitlines(keepends=True),
-            fromfile=args.path, tofile=args.output or f"{args.path} (sized)",
-        ))
+        out.writelines(
+            difflib.unified_diff(
+                text.splitlines(keepends=True),
+                edited.splitlines(keepends=True),
+                fromfile=args.path,
+                tofile=args.output or f"{args.path} (sized)",
+            )
+        )
     if not result.sizing.feasible:
         return EXIT_FINDINGS
     failing = any(
@@ -100,7 +110,8 @@ def _shortfall_lines(result: Any) -> list[str]:
         helps = [f"a booster adding at least {fmt(short, 'pressure', units)} at {s.supply}"]
         if s.lift > 0:
             helps.append(
-                f"a lower fixture (the path lifts {fmt(s.lift, 'pressure', units)} above {s.supply})"
+                f"a lower fixture (the path lifts {fmt(s.lift, 'pressure', units)} "
+                f"above {s.supply})"
             )
         if s.device_loss > 0:
             helps.append(
@@ -134,8 +145,10 @@ def _text(result: Any, out: Any, console: Console) -> None:
         for line in _shortfall_lines(result):
             out.write(f"  {line}\n")
         return
-    out.write(f"{result.path}: {len(sizing.changes)} pipe sizes changed, "
-              f"{len(result.proposals)} arresters added\n")
+    out.write(
+        f"{result.path}: {len(sizing.changes)} pipe sizes changed, "
+        f"{len(result.proposals)} arresters added\n"
+    )
     if sizing.changes:
         width = max(len(c.pipe) for c in sizing.changes)
         for c in sizing.changes:
@@ -143,11 +156,15 @@ def _text(result: Any, out: Any, console: Console) -> None:
     before, after = sizing.material_before, sizing.material_after
     area = "m^2" if units == "si" else "ft·in"
     scale = 1.0 if units == "si" else 1.0 / (0.3048 * 0.0254)
-    out.write(f"  material (Σ length × outside diameter): {before * scale:.4g} -> "
-              f"{after * scale:.4g} {area}\n")
+    out.write(
+        f"  material (Σ length × outside diameter): {before * scale:.4g} -> "
+        f"{after * scale:.4g} {area}\n"
+    )
     for p in result.proposals:
-        out.write(f"  + arrester {p.id}: sealed class {p.rating} at {p.at} ({p.side}), serves "
-                  f"{p.serves:.1f} WSFU\n")
+        out.write(
+            f"  + arrester {p.id}: sealed class {p.rating} at {p.at} ({p.side}), serves "
+            f"{p.serves:.1f} WSFU\n"
+        )
     out.write("\nCheck of the sized layout:\n")
     report = CheckReport([(result.path, result.layout.profile, list(result.findings))], [], None, 0)
     buffer = io.StringIO()
@@ -162,8 +179,7 @@ def _as_json(result: Any) -> dict[str, Any]:
         "path": result.path,
         "feasible": sizing.feasible,
         "changes": [
-            {"pipe": c.pipe, "old": c.old, "new": c.new, "reason": c.reason}
-            for c in sizing.changes
+            {"pipe": c.pipe, "old": c.old, "new": c.new, "reason": c.reason} for c in sizing.changes
         ],
         "reasons": dict(sorted(sizing.reasons.items())),
         "material": {
