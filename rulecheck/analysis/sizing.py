@@ -24,144 +24,42 @@ each pipe takes the cheapest point its actual pressure affords.
 from __future__ import annotations
 
 import math
-import re
 from bisect import bisect_right
-from dataclasses import dataclass, field, replace
-from functools import cache
 
 import numpy as np
 
 from rulecheck.analysis.result import SteadyState
+from rulecheck.analysis.sizing_data import (
+    _TOL,
+    MARGIN,
+    Change,
+    Front,
+    Minimum,
+    SizingResult,
+    TooFast,
+    _Edge,
+    area,
+    catalog_order,
+    inch_labelled,
+    nominal,
+    nominal_inches,
+    sized_layout,
+)
+from rulecheck.analysis.sizing_why import binding, find_shortfalls
 from rulecheck.analysis.steady import device_effect
-from rulecheck.input.model import Layout, Pipe
+from rulecheck.input.model import Pipe
 from rulecheck.physics.constants import STANDARD_GRAVITY
 from rulecheck.physics.friction import darcy_pressure_drop
-from rulecheck.units import fmt
 
-#: pressure kept in hand at each fixture [Pa], so float rounding never turns a pass into
-#: a shortfall by a billionth of a pascal in the analysis of the sized layout
-MARGIN = 1e-6
-_TOL = 1e-9
-
-Front = tuple[list[float], list[float], list[int]]  # need [Pa] rising, cost falling, size index
-
-
-@dataclass(frozen=True)
-class Minimum:
-    """A code minimum size for one pipe: nominal inches and why (with its source)."""
-
-    inches: float
-    reason: str
-
-
-@dataclass(frozen=True)
-class Change:
-    pipe: str
-    old: str
-    new: str
-    reason: str
-
-
-@dataclass(frozen=True)
-class Shortfall:
-    """A fixture that cannot get its pressure even with every pipe at its largest size."""
-
-    fixture: str
-    point: str
-    need: float  # [Pa]
-    best: float  # residual with every pipe on its path at its largest candidate [Pa]
-    lift: float  # ρ·g·(z_fixture − z_supply) over the path [Pa]
-    device_loss: float  # devices and heater on the path at design flow [Pa]
-    supply: str
-
-
-@dataclass(frozen=True)
-class TooFast:
-    """A pipe whose flow runs over its limit even in its material's largest size."""
-
-    pipe: str
-    flow: float  # [m³/s]
-    largest: str
-    velocity: float  # at the largest size [m/s]
-    limit: float  # [m/s]
-
-
-@dataclass(frozen=True)
-class SizingResult:
-    sizes: dict[str, str]  # pipe id -> size label (every pipe)
-    reasons: dict[str, str]  # pipe id -> what keeps it from the next size down
-    changes: tuple[Change, ...]
-    material_before: float  # Σ length × outside diameter [m²]
-    material_after: float
-    shortfalls: tuple[Shortfall, ...] = ()
-    too_fast: tuple[TooFast, ...] = ()
-    notes: tuple[str, ...] = ()
-    residual: dict[str, float] = field(default_factory=dict)  # predicted, sized [Pa]
-
-    @property
-    def feasible(self) -> bool:
-        return (
-            not self.shortfalls
-            and not self.too_fast
-            and "no combination" not in "".join(self.notes)
-        )
-
-
-_INCH = re.compile(r"(?:(\d+)-)?(\d+)/(\d+)|(\d+(?:\.\d+)?)")
-
-
-@cache
-def nominal_inches(label: str) -> float | None:
-    """Nominal size of an inch label (``3/4``, ``1-1/4``, ``2``) [in], else ``None``."""
-    m = _INCH.fullmatch(label.strip())
-    if m is None:
-        return None
-    if m.group(4) is not None:
-        return float(m.group(4))
-    return float(m.group(1) or 0) + int(m.group(2)) / int(m.group(3))
-
-
-def inch_labelled(pipe: Pipe) -> bool:
-    """Whether the material's size labels are inch nominal sizes (metric tables label in
-    millimetres: 15, 22, 28, …; an inch table has a fraction or stays at 12 and under)."""
-    return _inch_table(tuple(pipe.material.sizes))
-
-
-@cache
-def _inch_table(labels: tuple[str, ...]) -> bool:
-    values = [nominal_inches(label) for label in labels]
-    known = [v for v in values if v is not None]
-    if len(known) < len(values):
-        return False
-    return any("/" in label for label in labels) or max(known, default=0.0) <= 12
-
-
-def catalog_order(pipe: Pipe) -> list[str]:
-    """The material's sizes, smallest first (by outside diameter, as the velocity rule)."""
-    return list(_order(tuple(pipe.material.sizes.items())))
-
-
-@cache
-def _order(items: tuple[tuple[str, tuple[float, float]], ...]) -> tuple[str, ...]:
-    return tuple(label for label, _ in sorted(items, key=lambda kv: kv[1][0]))
-
-
-def _area(od: float, wall: float) -> float:
-    return math.pi * (od - 2.0 * wall) ** 2 / 4.0  # as Pipe.area
-
-
-@dataclass
-class _Edge:
-    index: int  # pipe index, -1 for a heater
-    start: str
-    end: str
-    labels: list[str]
-    nominal: list[float]
-    loss: list[float]  # A: lift + friction + device losses at design flow [Pa]
-    cost: list[float]
-    cap: float
-    ordered: bool
-    prefix: list[Front] = field(default_factory=list)
+__all__ = [
+    "Minimum",
+    "SizingResult",
+    "catalog_order",
+    "inch_labelled",
+    "nominal_inches",
+    "size_pipes",
+    "sized_layout",
+]
 
 
 def size_pipes(
@@ -213,7 +111,7 @@ def size_pipes(
                 if not chosen:
                     big = pipe.material.sizes[labels[-1]]
                     too_fast.append(
-                        TooFast(pipe.id, flow, labels[-1], flow / _area(*big), velocity_limit[i])
+                        TooFast(pipe.id, flow, labels[-1], flow / area(*big), velocity_limit[i])
                     )
                     chosen = [len(labels) - 1]
             inch = inch_labelled(pipe)
@@ -222,7 +120,7 @@ def size_pipes(
                 pipe.start,
                 node,
                 [labels[k] for k in chosen],
-                [_nominal(pipe, labels[k], inch) for k in chosen],
+                [nominal(pipe, labels[k], inch) for k in chosen],
                 [lift + float(drop[k]) + loss for k in chosen],
                 [pipe.length * pipe.material.sizes[labels[k]][0] for k in chosen],
                 cap,
@@ -258,7 +156,7 @@ def size_pipes(
     sizes = {p.id: p.size for p in pipes}
     for i, edge in edges.items():
         sizes[pipes[i].id] = edge.labels[chosen_k.get(id(edge), 0)]
-    shortfalls = _shortfalls(layout, steady, need, need_by, hi, roots, children)
+    shortfalls = find_shortfalls(layout, steady, need, need_by, hi, roots, children)
     notes: list[str] = []
     if len(chosen_k) < len(edges) + len(layout.heaters) and not shortfalls and not too_fast:
         notes.append(
@@ -268,7 +166,7 @@ def size_pipes(
     residual = _forward(roots, topo, children, chosen_k)
     if not shortfalls and not too_fast and not notes:
         reasons.update(
-            _binding(
+            binding(
                 steady,
                 edges,
                 chosen_k,
@@ -300,13 +198,6 @@ def size_pipes(
     )
 
 
-def _nominal(pipe: Pipe, label: str, inch: bool) -> float:
-    if inch:
-        return nominal_inches(label) or 0.0
-    od, wall = pipe.material.sizes[label]
-    return (od - 2.0 * wall) / 0.0254
-
-
 def _drops(steady: SteadyState, labels: list[str], owner: list[int]) -> np.ndarray:
     """Friction drop of every (pipe, size) at the pipe's design flow [Pa], by the analysis's
     own Darcy–Weisbach with the same equivalent length and water properties."""
@@ -336,7 +227,7 @@ def _candidates(
     inch = inch_labelled(pipe)
     found = []
     for k, label in enumerate(labels):
-        if flow / _area(*pipe.material.sizes[label]) > limit:
+        if flow / area(*pipe.material.sizes[label]) > limit:
             continue
         if minimum is not None and inch and (nominal_inches(label) or 0.0) < minimum.inches - _TOL:
             continue
@@ -506,138 +397,3 @@ def _forward(
             k = chosen.get(id(e), len(e.labels) - 1)
             res[e.end] = min(res[node] - e.loss[k], e.cap)
     return res
-
-
-def _shortfalls(
-    layout: Layout,
-    steady: SteadyState,
-    need: dict[str, float],
-    need_by: dict[str, str],
-    hi: dict[str, float],
-    roots: list[tuple[str, float]],
-    children: dict[str, list[_Edge]],
-) -> list[Shortfall]:
-    """Fixtures short even with every pipe at its largest candidate, with the path's lift
-    and device losses (what a booster, a lower fixture or lower-loss devices must recover)."""
-    parent: dict[str, _Edge] = {e.end: e for es in children.values() for e in es}
-    z = steady.network.elevation
-    devices: dict[str, float] = {}
-    for d in layout.devices:
-        devices[d.on] = devices.get(d.on, 0.0) + d.loss
-    out = []
-    for point, required in sorted(need.items()):
-        if point not in hi or hi[point] >= required - MARGIN - _TOL:
-            continue
-        node, losses = point, 0.0
-        while node in parent:
-            e = parent[node]
-            if e.index < 0:
-                heater = next(h for h in layout.heaters if h.outlet == node)
-                losses += heater.loss
-            else:
-                losses += devices.get(layout.pipes[e.index].id, 0.0)
-            node = e.start
-        supply = next(s for s in layout.supplies if s.id == node)
-        rho_g = steady.water_for(steady.network.service_of(point) or "cold").density * (
-            STANDARD_GRAVITY
-        )
-        out.append(
-            Shortfall(
-                need_by[point],
-                point,
-                required - MARGIN,
-                hi[point],
-                rho_g * (z[point] - z[node]),
-                losses,
-                supply.id,
-            )
-        )
-    return out
-
-
-def _binding(
-    steady: SteadyState,
-    edges: dict[int, _Edge],
-    chosen: dict[int, int],
-    children: dict[str, list[_Edge]],
-    residual: dict[str, float],
-    need: dict[str, float],
-    need_by: dict[str, str],
-    drops: np.ndarray,
-    starts: list[int],
-    velocity_limit: list[float],
-    minimum: dict[str, Minimum],
-) -> dict[str, str]:
-    """Per sized pipe, every constraint the next size down in its catalog would break."""
-    margin = _margins(children, chosen, residual, need, need_by)
-    pipes = steady.layout.pipes
-    out = {}
-    for i, e in edges.items():
-        if not e.ordered:
-            continue
-        pipe = pipes[i]
-        labels = catalog_order(pipe)
-        k = labels.index(e.labels[chosen.get(id(e), 0)])
-        if k == 0:
-            out[pipe.id] = "smallest catalog size"
-            continue
-        smaller = labels[k - 1]
-        flow = float(steady.flow[i])
-        why = []
-        velocity = flow / _area(*pipe.material.sizes[smaller])
-        if velocity > velocity_limit[i]:
-            why.append(
-                f"velocity ({smaller} would run at "
-                f"{fmt(velocity, 'velocity', steady.layout.units)})"
-            )
-        rule = minimum.get(pipe.id)
-        if rule and inch_labelled(pipe) and (nominal_inches(smaller) or 0.0) < rule.inches - _TOL:
-            why.append(rule.reason)
-        inch = inch_labelled(pipe)
-        for c in children.get(e.end, ()):
-            if c.ordered and c.nominal[chosen.get(id(c), 0)] > _nominal(pipe, smaller, inch) + _TOL:
-                why.append(f"downstream order ({pipes[c.index].id} is {c.labels[chosen[id(c)]]})")
-        more = float(drops[starts[i] + k - 1] - drops[starts[i] + k])
-        slack, fixture = margin.get(e.end, (math.inf, ""))
-        if more > slack:
-            why.append(f"pressure at fixture {fixture}")
-        out[pipe.id] = "; ".join(why) or "none"
-    return out
-
-
-def _margins(
-    children: dict[str, list[_Edge]],
-    chosen: dict[int, int],
-    residual: dict[str, float],
-    need: dict[str, float],
-    need_by: dict[str, str],
-) -> dict[str, tuple[float, str]]:
-    """How far the pressure at each node may fall before a fixture below it falls short,
-    and that fixture (a reducing valve holding back pressure gives its surplus first)."""
-    margin: dict[str, tuple[float, str]] = {}
-    for node in reversed(list(residual)):
-        best = (
-            (residual[node] - need[node] + MARGIN, need_by[node])
-            if node in need
-            else (math.inf, "")
-        )
-        for c in children.get(node, ()):
-            below = margin.get(c.end, (math.inf, ""))
-            k = chosen.get(id(c), 0)
-            surplus = max(0.0, residual[node] - c.loss[k] - c.cap)
-            best = min(best, (below[0] + surplus, below[1]))
-        margin[node] = best
-    return margin
-
-
-def sized_layout(layout: Layout, sizes: dict[str, str]) -> Layout:
-    """``layout`` with every pipe at ``sizes[pipe.id]``."""
-    pipes = []
-    for p in layout.pipes:
-        label = sizes.get(p.id, p.size)
-        if label == p.size:
-            pipes.append(p)
-            continue
-        od, wall = p.material.sizes[label]
-        pipes.append(replace(p, size=label, outside_diameter=od, wall=wall))
-    return replace(layout, pipes=pipes)
