@@ -503,3 +503,18 @@ def test_output_never_replaces_the_input(tmp_path: Path, capsys) -> None:
     assert main(["size", str(path), "--output", str(path)]) == 2
     assert path.read_text() == SAMPLES[0].read_text()
     assert "refusing" in capsys.readouterr().err
+
+
+def test_random_trees_include_pressure_bound_and_infeasible_cases(tmp_path: Path) -> None:
+    """The random set above is not trivial: pressure binds some pipes, some trees fail."""
+    reasons, infeasible = [], 0
+    for seed in range(24):
+        rng = random.Random(seed)
+        layout = load_layout(_random_layout(rng, tmp_path, rng.randint(1, 7)))
+        steady = _steady(layout)
+        result = size_pipes(steady, velocity_limits(steady, Settings()), code_minimums(layout))
+        infeasible += not result.feasible
+        reasons.extend(result.reasons.values())
+    assert infeasible >= 1
+    assert any("pressure at fixture" in r for r in reasons)
+    assert any("downstream order" in r for r in reasons)
