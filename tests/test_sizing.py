@@ -518,3 +518,41 @@ def test_random_trees_include_pressure_bound_and_infeasible_cases(tmp_path: Path
     assert infeasible >= 1
     assert any("pressure at fixture" in r for r in reasons)
     assert any("downstream order" in r for r in reasons)
+
+
+EDIT_CASES = [
+    # (original, expected): P1 becomes 2, arrester X at J is added
+    (
+        "pipes:\n- {id: P1, size: '1'}\n",
+        "pipes:\n- {id: P1, size: '2'}\narresters:\n- {id: X, at: J, rating: A}\n",
+    ),
+    (
+        "pipes:\n  - id: P1\n    size: 1 # c\narresters: []\n",
+        "pipes:\n  - id: P1\n    size: 2 # c\narresters: [{id: X, at: J, rating: A}]\n",
+    ),
+    (
+        'pipes:\n  - id: P1\n    size: "1"\narresters:\n  - id: A1\n    at: J\n    rating: A   # note\n\nwaivers: []\n',
+        'pipes:\n  - id: P1\n    size: "2"\narresters:\n  - id: A1\n    at: J\n    rating: A   # note\n  - id: X\n    at: J\n    rating: A\n\nwaivers: []\n',
+    ),
+    (
+        "arresters:\npipes: [{id: P1, size: 1}]\n",
+        "arresters:\n  - {id: X, at: J, rating: A}\npipes: [{id: P1, size: 2}]\n",
+    ),
+    (
+        "pipes: [{id: P1, size: 1}]\narresters: [{id: A1, at: J, rating: A}]\n",
+        "pipes: [{id: P1, size: 2}]\narresters: [{id: A1, at: J, rating: A}, {id: X, at: J, rating: A}]\n",
+    ),
+    (
+        "pipes: [{id: P1, size: 1}]\r\narresters:\r\n- {id: A1, at: J, rating: A}",
+        "pipes: [{id: P1, size: 2}]\r\narresters:\r\n- {id: A1, at: J, rating: A}\r\n- {id: X, at: J, rating: A}\r\n",
+    ),
+]
+
+
+@pytest.mark.parametrize(("original", "expected"), EDIT_CASES)
+def test_edit_changes_only_the_values_in_the_original_style(original: str, expected: str) -> None:
+    from rulecheck.layout_edit import edit_layout
+
+    head = "version: 1  # kept\n"
+    out = edit_layout(head + original, {"P1": "2"}, [{"id": "X", "at": "J", "rating": "A"}])
+    assert out == head + expected
