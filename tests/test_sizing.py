@@ -556,3 +556,24 @@ def test_edit_changes_only_the_values_in_the_original_style(original: str, expec
     head = "version: 1  # kept\n"
     out = edit_layout(head + original, {"P1": "2"}, [{"id": "X", "at": "J", "rating": "A"}])
     assert out == head + expected
+
+
+@pytest.mark.parametrize(
+    "text",
+    [
+        "version: 1\nproject: {name: x}\nsupplies: [{id: S, pressure: 50 psi}]\n"
+        "pipes: [{id: P1, from: S, to: J1, material: copper-l, size: 1, length: 5 ft, service: cold, keep_size: yes please}]\n"
+        "points: [{id: J1}]\n",
+        "version: 1\npipes: [{id: P1\n",
+        "",
+    ],
+    ids=["keep-size-not-boolean", "broken-yaml", "empty"],
+)
+def test_bad_input_is_an_input_error_with_its_position(text: str, tmp_path: Path, capsys) -> None:
+    path = tmp_path / "bad.yaml"
+    path.write_text(text)
+    out = tmp_path / "sized.yaml"
+    assert main(["size", str(path), "--output", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert f"{path}:" in err and "error:" in err and "Traceback" not in err
+    assert not out.exists()
