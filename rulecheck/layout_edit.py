@@ -134,10 +134,12 @@ def edit_layout(text: str, sizes: dict[str, str], arresters: Sequence[dict[str, 
             edits.append((start, end, f"{style}{new}{style}" if style else new))
     if arresters:
         edits.append(_arrester_edit(text, found, arresters, newline))
-    out = text
-    for start, end, new_text in sorted(edits, reverse=True):
-        out = out[:start] + new_text + out[end:]
-    return out
+    pieces, at = [], 0
+    for start, end, new_text in sorted(edits):  # one pass: linear in the file's length
+        pieces += [text[at:start], new_text]
+        at = end
+    pieces.append(text[at:])
+    return "".join(pieces)
 
 
 def _flow_entries(arresters: Sequence[dict[str, str]]) -> str:
