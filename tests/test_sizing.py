@@ -495,6 +495,9 @@ def test_json_output_and_diff(tmp_path: Path, capsys) -> None:
     main(["size", str(source), "--diff"])
     said = capsys.readouterr().out
     assert "--- " in said and "+++ " in said and "@@" in said
+    main(["size", str(source), "--diff", "--format", "json"])
+    data = json.loads(capsys.readouterr().out)  # the diff inside the JSON, not after it
+    assert data["diff"].startswith("--- ")
 
 
 def test_output_never_replaces_the_input(tmp_path: Path, capsys) -> None:

@@ -79,13 +79,9 @@ def run(args: argparse.Namespace, console: Console) -> int:
             with atomic_output(args.output) as handle:
                 handle.write(edited)
     out = sys.stdout
-    if args.format == "json":
-        json.dump(_as_json(result), out, indent=2, ensure_ascii=False)
-        out.write("\n")
-    else:
-        _text(result, out, console)
+    diff = ""
     if args.diff and result.sizing.feasible:
-        out.writelines(
+        diff = "".join(
             difflib.unified_diff(
                 text.splitlines(keepends=True),
                 edited.splitlines(keepends=True),
@@ -93,6 +89,15 @@ def run(args: argparse.Namespace, console: Console) -> int:
                 tofile=args.output or f"{args.path} (sized)",
             )
         )
+    if args.format == "json":
+        data = _as_json(result)
+        if args.diff:
+            data["diff"] = diff
+        json.dump(data, out, indent=2, ensure_ascii=False)
+        out.write("\n")
+    else:
+        _text(result, out, console)
+        out.write(diff)
     if not result.sizing.feasible:
         return EXIT_FINDINGS
     failing = any(
