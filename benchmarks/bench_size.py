@@ -13,6 +13,9 @@ splice of the changed values, plus a re-read of the written file).
 from __future__ import annotations
 
 import argparse
+import contextlib
+import functools
+import io
 import subprocess
 import sys
 import tempfile
@@ -42,31 +45,41 @@ def main() -> int:
 
     out = HERE / "out"
     out.mkdir(exist_ok=True)
-    print(f"{'pipes':>7} {'check s':>8} {'size s':>8} {'ratio':>6} {'size+output s':>14} "
-          f"{'size µs/pipe':>13} {'changes':>8}")
+    print(
+        f"{'pipes':>7} {'check s':>8} {'size s':>8} {'ratio':>6} {'size+output s':>14} "
+        f"{'size µs/pipe':>13} {'changes':>8}"
+    )
     for n in args.sizes:
         path = out / f"tower-{n}.yaml"
         if not path.exists():
-            subprocess.run([sys.executable, str(HERE / "generate_tower.py"), "--pipes", str(n),
-                            "-o", str(path)], check=True)
-        check = _best(lambda: check_file(path), args.repeat)
+            subprocess.run(
+                [
+                    sys.executable,
+                    str(HERE / "generate_tower.py"),
+                    "--pipes",
+                    str(n),
+                    "-o",
+                    str(path),
+                ],
+                check=True,
+            )
+        check = _best(functools.partial(check_file, path), args.repeat)
         result = size_file(path)
-        size = _best(lambda: size_file(path), args.repeat)
+        size = _best(functools.partial(size_file, path), args.repeat)
         with tempfile.TemporaryDirectory() as tmp:
             target = Path(tmp) / "sized.yaml"
 
-            def write() -> None:
+            def write(target: Path = target, path: Path = path) -> None:
                 target.unlink(missing_ok=True)
                 cli(["size", str(path), "--output", str(target), "--format", "json"])
-
-            import contextlib
-            import io
 
             with contextlib.redirect_stdout(io.StringIO()):
                 written = _best(write, 1)
         pipes = len(result.layout.pipes)
-        print(f"{pipes:>7} {check:>8.2f} {size:>8.2f} {size / check:>6.2f} {written:>14.2f} "
-              f"{size / pipes * 1e6:>13.0f} {len(result.sizing.changes):>8}")
+        print(
+            f"{pipes:>7} {check:>8.2f} {size:>8.2f} {size / check:>6.2f} {written:>14.2f} "
+            f"{size / pipes * 1e6:>13.0f} {len(result.sizing.changes):>8}"
+        )
     return 0
 
 
