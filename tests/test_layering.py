@@ -33,11 +33,11 @@ LAYERS: list[tuple[str, tuple[str, ...]]] = [
         ),
     ),
     ("physics", ("rulecheck.physics",)),
-    ("input", ("rulecheck.input",)),
+    ("input", ("rulecheck.input", "rulecheck.layout_edit")),
     ("analysis", ("rulecheck.analysis",)),
     ("engine", ("rulecheck.engine", "rulecheck.checks")),
     ("report", ("rulecheck.report",)),
-    ("pipeline", ("rulecheck.pipeline", "rulecheck.folder")),
+    ("pipeline", ("rulecheck.pipeline", "rulecheck.folder", "rulecheck.sizing_run")),
     ("cli", ("rulecheck.cli", "rulecheck.__main__")),
 ]
 RANK = {name: i for i, (name, _) in enumerate(LAYERS)}

@@ -9,10 +9,13 @@ root outward with elevation, devices and the heater.
 
 from __future__ import annotations
 
+import math
+from collections.abc import Sequence
+
 import numpy as np
 
 from rulecheck.analysis.result import SteadyState, frozen_array, frozen_map
-from rulecheck.input.model import Fixture, Layout
+from rulecheck.input.model import Device, Fixture, Layout
 from rulecheck.input.network import Network, Tree
 from rulecheck.input.profiles import get_profile
 from rulecheck.physics.constants import STANDARD_ATMOSPHERE, STANDARD_GRAVITY
@@ -160,6 +163,19 @@ def _meeting_point(tree: Tree, network: Network, a: str, b: str) -> str:
     return a
 
 
+def device_effect(devices: Sequence[Device]) -> tuple[float, float]:
+    """What a pipe's inline devices, in their order, do to the flowing pressure:
+    ``p_out = min(p_in − loss, cap)`` [Pa] (each device takes its loss; a reducing valve
+    caps what passes at its set pressure, less the losses of the devices after it)."""
+    loss, cap = 0.0, math.inf
+    for device in devices:
+        loss += device.loss
+        cap -= device.loss
+        if device.kind == "pressure-reducing" and device.set_pressure is not None:
+            cap = min(cap, device.set_pressure)
+    return loss, cap
+
+
 Pressures = tuple[dict[str, float], dict[str, float], set[str], dict[str, float]]
 
 
@@ -199,13 +215,13 @@ def _pressures(
             pipe = layout.pipes[index]
             lift = rho_g * (z[node] - z[pipe.start])
             hi, lo = smax[pipe.start] - lift, smin[pipe.start] - lift
-            flowing = res[pipe.start] - lift - friction[index]
-            for device in devices.get(pipe.id, ()):
-                flowing -= device.loss
+            on_pipe = devices.get(pipe.id, ())
+            for device in on_pipe:
                 if device.kind == "pressure-reducing" and device.set_pressure is not None:
                     hi, lo = min(hi, device.set_pressure), min(lo, device.set_pressure)
-                    flowing = min(flowing, device.set_pressure)
-            smax[node], smin[node], res[node] = hi, lo, flowing
+            loss, cap = device_effect(on_pipe)
+            smax[node], smin[node] = hi, lo
+            res[node] = min(res[pipe.start] - lift - friction[index] - loss, cap)
     return (*_floor_static(network, water, smax, smin), res)
 
 

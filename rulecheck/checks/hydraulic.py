@@ -11,7 +11,7 @@ from rulecheck.findings import Finding
 from rulecheck.input.model import Layout, Pipe
 
 
-def _velocity_limit_for(ctx: RuleContext, pipe: Pipe, index: int) -> float:
+def velocity_limit_for(ctx: RuleContext, pipe: Pipe, index: int) -> float:
     single = "single_outlet" in ctx.spec.raw_limits(ctx.analysis.layout.profile)
     if single and pipe.service != "hot-return" and int(ctx.analysis.fixtures_served[index]) == 1:
         return ctx.limit("single_outlet", "velocity")  # a connection pipe to one fitting
@@ -40,7 +40,7 @@ def velocity_limit(ctx: RuleContext) -> Iterator[Finding]:
     analysis = ctx.analysis
     for index, pipe in enumerate(analysis.layout.pipes):
         velocity = float(analysis.velocity[index])
-        limit = _velocity_limit_for(ctx, pipe, index)
+        limit = velocity_limit_for(ctx, pipe, index)
         if velocity <= limit:
             continue
         flow = float(analysis.flow[index])

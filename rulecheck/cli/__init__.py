@@ -17,7 +17,7 @@ from collections.abc import Callable
 from typing import TYPE_CHECKING, cast
 
 from rulecheck import __version__
-from rulecheck.cli import analyze, catalog, check, explain, info, simulate
+from rulecheck.cli import analyze, catalog, check, explain, info, simulate, size
 from rulecheck.cli.common import (
     DEBUG_OPTION,
     LazyConsole,
@@ -46,6 +46,7 @@ COMMANDS: dict[str, tuple[Callable[[argparse._SubParsersAction], None], Run]] = 
     "check": (check.add_parser, check.run),
     "analyze": (analyze.add_parser, analyze.run),
     "simulate": (simulate.add_parser, simulate.run),
+    "size": (size.add_parser, size.run),
     "rules": (info.add_rules_parser, info.run_rules),
     "explain": (explain.add_parser, explain.run),
     "schema": (info.add_schema_parser, info.run_schema),

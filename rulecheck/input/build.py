@@ -290,6 +290,7 @@ class _Builder:
             item.get("anchoring", "throughout"),
             demand,
             self.doc.where(path),
+            item.get("keep_size") is True,
         )
 
     def fixture(self, path: tuple, item: dict[str, Any]) -> Fixture | None:

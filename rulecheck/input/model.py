@@ -128,6 +128,7 @@ class Pipe:
     anchoring: str
     demand: float | None  # design flow override [m³/s]
     pos: Position
+    keep_size: bool = False  # `rulecheck size` keeps this size (layout key keep_size)
 
     @property
     def inner_diameter(self) -> float:
