@@ -14,9 +14,10 @@ from __future__ import annotations
 
 import math
 import re
-from collections.abc import Mapping
+from collections.abc import Iterator, Mapping
 from dataclasses import dataclass, field
 from html import escape
+from itertools import chain
 
 from rulecheck.findings import SEVERITY_RANK
 from rulecheck.input.model import Layout, Pipe
@@ -256,56 +257,60 @@ def _edge(
     return _wrap(ident, "pipe", body + text, marked, f"pipe {label} ({service})")
 
 
-def _beside(text: str, x: float, y: float, gap: float) -> list[Spot]:
-    """Spots around a symbol at (x, y), ``gap`` px from its centre: right, left, below,
-    above, a row lower or higher on either side, then on widening rings."""
+def _beside(text: str, x: float, y: float, gap: float, first: Spot | None = None) -> Iterator[Spot]:
+    """Spots around a symbol at (x, y), ``gap`` px from its centre (after ``first``):
+    right, left, below, above, a row lower or higher on either side, then on widening
+    rings. Made one at a time: a label in the clear never reads past its first."""
+    if first is not None:
+        yield first
     w = text_width(text)
-    spots = [Spot(text, x + gap, y + 3), Spot(text, x - gap - w, y + 3)]
+    yield Spot(text, x + gap, y + 3)
+    yield Spot(text, x - gap - w, y + 3)
     for dy in (gap + 8, -gap - 1, gap + 17, -gap - 10, gap + 26, -gap - 19):
-        spots += [Spot(text, x + 5, y + dy), Spot(text, x - 5 - w, y + dy)]
-    return spots + _ring(text, x, y)
+        yield Spot(text, x + 5, y + dy)
+        yield Spot(text, x - 5 - w, y + dy)
+    yield from _ring(text, x, y)
 
 
-def _along(label: str, ident: str, parent: _Node, child: _Node) -> list[Spot]:
+def _along(label: str, ident: str, parent: _Node, child: _Node) -> Iterator[Spot]:
     """Spots for a pipe's label: along its riser (turned) when it has a long one, along
     its run, beside its short riser; then the same with the pipe id alone (the full label
-    stays in the element's title and in the pipes table)."""
-    spots: list[Spot] = []
+    stays in the element's title and in the pipes table); then the id in rings."""
+    rise = abs(child.y - parent.y)
+    my = (parent.y + child.y) / 2
+    run = abs(child.x - parent.x)
+    lo, hi = sorted((parent.x, child.x))
     for text in (label, ident):
         w = text_width(text)
-        rise = abs(child.y - parent.y)
-        my = (parent.y + child.y) / 2
-        run = abs(child.x - parent.x)
         if rise >= w + 16:
-            spots += [Spot(text, child.x - 4, my, -90), Spot(text, child.x + 12, my, -90)]
+            yield Spot(text, child.x - 4, my, -90)
+            yield Spot(text, child.x + 12, my, -90)
         if run >= w + 12:
-            lo, hi = sorted((parent.x, child.x))
-            mid = (lo + hi - w) / 2
-            for x in (mid, hi - 6 - w, lo + 6):
-                spots += [Spot(text, x, parent.y - 4), Spot(text, x, parent.y + 12)]
-        if 8 <= rise:
-            spots += [Spot(text, child.x + 6, my + 3), Spot(text, child.x - 6 - w, my + 3)]
+            for x in ((lo + hi - w) / 2, hi - 6 - w, lo + 6):
+                yield Spot(text, x, parent.y - 4)
+                yield Spot(text, x, parent.y + 12)
+        if rise >= 8:
+            yield Spot(text, child.x + 6, my + 3)
+            yield Spot(text, child.x - 6 - w, my + 3)
         if rise >= 24:
-            spots += [
-                Spot(text, child.x - 4, my, -90),
-                Spot(text, child.x + 12, my, -90),
-            ]
+            yield Spot(text, child.x - 4, my, -90)
+            yield Spot(text, child.x + 12, my, -90)
     # crowded: the id alone, in rings around the middle of the run and of the riser
-    run_mid = ((parent.x + child.x) / 2, parent.y)
-    rise_mid = (child.x, (parent.y + child.y) / 2)
-    return spots + _ring(ident, *run_mid) + _ring(ident, *rise_mid)
+    yield from _ring(ident, (parent.x + child.x) / 2, parent.y)
+    yield from _ring(ident, child.x, my)
 
 
-def _ring(text: str, x: float, y: float) -> list[Spot]:
-    """Spots on widening rings around (x, y): 5 rings of 8 (bounded)."""
+#: unit steps of a ring: eight directions
+_COMPASS = [(math.cos(k * math.pi / 4), math.sin(k * math.pi / 4)) for k in range(8)]
+
+
+def _ring(text: str, x: float, y: float) -> Iterator[Spot]:
+    """Spots on widening rings around (x, y): 7 rings of 8 (bounded)."""
     w = text_width(text)
-    spots = []
-    for r in (10.0, 18.0, 28.0, 40.0, 54.0):
-        for k in range(8):
-            dx, dy = r * math.cos(k * math.pi / 4), r * math.sin(k * math.pi / 4)
-            left = x + dx - (w if dx < -1 else w / 2 if dx <= 1 else 0.0)
-            spots.append(Spot(text, left, y + dy + 3))
-    return spots
+    for r in (10.0, 18.0, 28.0, 40.0, 54.0, 72.0, 94.0):
+        for cx, cy in _COMPASS:
+            dx = r * cx
+            yield Spot(text, x + dx - (w if dx < -1 else w / 2 if dx <= 1 else 0.0), y + r * cy + 3)
 
 
 def _hanger(parent: _Node, child: _Node) -> str:
@@ -343,7 +348,7 @@ def _device(
     body = (
         halo + f'<rect class="device" x="{x - 5:.1f}" y="{y - 5:.1f}" width="10" height="10" '
         f'transform="rotate(45 {x:.1f} {y:.1f})"/>'
-        + labels.request(2, "lbl dev", [Spot(ident, x + 8, y + 13), *_beside(ident, x, y, 10.0)])
+        + labels.request(2, "lbl dev", _beside(ident, x, y, 10.0, Spot(ident, x + 8, y + 13)))
     )
     labels.block((x - 7.1, y - 7.1, x + 7.1, y + 7.1))
     return _wrap(ident, "device", body, marked, f"{kind} {ident} on {on}")
@@ -357,7 +362,7 @@ def _symbol(node: _Node, marked: Mapping[str, str], labels: Placer) -> str:
         body = (
             halo + f'<path class="supply" d="M{x - 11:.1f} {y + 9:.1f}L{x:.1f} {y - 11:.1f}'
             f'L{x + 11:.1f} {y + 9:.1f}Z"/>'
-            + labels.request(1, "lbl id", [Spot(ident, x + 14, y - 6), *_beside(ident, x, y, 14)])
+            + labels.request(1, "lbl id", _beside(ident, x, y, 14, Spot(ident, x + 14, y - 6)))
         )
         return _wrap(ident, "supply", body, marked, f"supply {ident}")
     if node.kind == "point":
@@ -366,10 +371,12 @@ def _symbol(node: _Node, marked: Mapping[str, str], labels: Placer) -> str:
         body = (
             halo
             + f'<circle class="node" cx="{x:.1f}" cy="{y:.1f}" r="3.2"/>'
-            + labels.request(1, "lbl id", [Spot(ident, x + 5, y + 11), *_beside(ident, x, y, 5)])
+            + labels.request(1, "lbl id", _beside(ident, x, y, 5, Spot(ident, x + 5, y + 11)))
         )
         return _wrap(ident, "point", body, marked, f"point {ident}")
-    hung = [Spot(ident, x + 3, y + 10, 60), Spot(ident, x + 3, y + 22, 60)]
+    hung = chain(
+        [Spot(ident, x + 3, y + 10, 60), Spot(ident, x + 3, y + 22, 60)], _ring(ident, x, y)
+    )
     if node.kind == "arrester":
         labels.block((x - 4, y - 10, x + 4, y + 6))
         halo = _halo(ident, marked, f'<circle class="CLASS" cx="{x:.1f}" cy="{y - 2:.1f}" r="12"/>')

@@ -14,6 +14,7 @@ A label with no free spot takes its first one (the drawing is never refused).
 from __future__ import annotations
 
 import math
+from collections.abc import Iterable
 from dataclasses import dataclass
 from html import escape
 
@@ -73,7 +74,7 @@ class Placer:
 
     def __init__(self) -> None:
         self._cells: dict[tuple[int, int], list[Box]] = {}
-        self._requests: list[tuple[int, int, str, list[Spot]]] = []
+        self._requests: list[tuple[int, int, str, Iterable[Spot]]] = []
         self.extent = (0.0, 0.0)  # right and bottom edge of everything placed
 
     def block(self, box: Box) -> None:
@@ -81,7 +82,7 @@ class Placer:
         for cell in self._cells_of(box):
             self._cells.setdefault(cell, []).append(box)
 
-    def request(self, rank: int, cls: str, spots: list[Spot]) -> str:
+    def request(self, rank: int, cls: str, spots: Iterable[Spot]) -> str:
         """A placeholder for a label to place; lower ``rank`` is placed first."""
         n = len(self._requests)
         self._requests.append((rank, n, cls, spots))
@@ -91,8 +92,12 @@ class Placer:
         """The SVG text of every requested label, by request number."""
         out: dict[int, str] = {}
         right = bottom = 0.0
-        for _, n, cls, spots in sorted(self._requests):
-            chosen = next((s for s in spots if self._free(spot_box(s))), spots[0])
+        for _, n, cls, spots in sorted(self._requests, key=lambda r: r[:2]):
+            tried = iter(spots)
+            first = next(tried)
+            chosen = first
+            if not self._free(spot_box(first)):
+                chosen = next((s for s in tried if self._free(spot_box(s))), first)
             box = spot_box(chosen)
             self.block(box)
             right, bottom = max(right, box[2]), max(bottom, box[3])
