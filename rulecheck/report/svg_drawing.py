@@ -12,12 +12,16 @@ carries ``data-element``. Output is deterministic: same layout, same bytes.
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+import math
+import re
+from collections.abc import Iterator, Mapping
 from dataclasses import dataclass, field
 from html import escape
+from itertools import chain
 
 from rulecheck.findings import SEVERITY_RANK
 from rulecheck.input.model import Layout, Pipe
+from rulecheck.report.svg_labels import Placer, Spot, text_width
 
 #: colours of our own, also used by the page's stylesheet (report/templates)
 SEVERITY_COLOUR = {
@@ -120,13 +124,15 @@ def _sheet(
     placed = _place(nodes, roots, max(heights, default=0.0))
     width = max(MARGIN * 2 + placed * COLUMN, 12 * 92 + 24.0)
     height = max(nodes[k].y for k in order) + MARGIN + 40.0 if order else 2 * MARGIN
+    labels = Placer()
+    labels.block((0.0, 0.0, width, 30.0))  # the legend
     parts: list[str] = []
     for parent_key in order:
         parent = nodes[parent_key]
         for edge, child_key in parent.children:
             child = nodes[child_key]
             if edge:
-                parts.append(_edge(parent, child, edges[edge], marked))
+                parts.append(_edge(parent, child, edges[edge], marked, labels))
             else:
                 parts.append(_hanger(parent, child))
     for pipe in layout.pipes:
@@ -140,17 +146,20 @@ def _sheet(
         carrier = pipes.get(device.on)
         if carrier is None or _key("n", carrier.start) not in inside:
             continue
-        parts.append(_device(device.id, device.kind, carrier, on_pipe[device.on], nodes, marked))
+        parts.append(
+            _device(device.id, device.kind, carrier, on_pipe[device.on], nodes, marked, labels)
+        )
     for key in order:
-        parts.append(_symbol(nodes[key], marked))
+        parts.append(_symbol(nodes[key], marked, labels))
+    texts = labels.place()
+    width = max(width, labels.extent[0] + 12.0)
+    height = max(height, labels.extent[1] - 18.0)
+    body = re.sub(r"<<LBL(\d+)>>", lambda m: texts[int(m[1])], "".join(p for p in parts if p))
     legend = _legend()
     return (
         f'<svg xmlns="http://www.w3.org/2000/svg" class="network" role="img" '
         f'aria-label="Schematic of the network" width="{width:.0f}" height="{height + 30:.0f}" '
-        f'viewBox="0 0 {width:.0f} {height + 30:.0f}">'
-        + "".join(p for p in parts if p)
-        + legend
-        + "</svg>"
+        f'viewBox="0 0 {width:.0f} {height + 30:.0f}">' + body + legend + "</svg>"
     )
 
 
@@ -223,7 +232,11 @@ def _wrap(element: str, kind: str, body: str, marked: Mapping[str, str], title: 
 
 
 def _edge(
-    parent: _Node, child: _Node, edge: tuple[str, str, str, str], marked: Mapping[str, str]
+    parent: _Node,
+    child: _Node,
+    edge: tuple[str, str, str, str],
+    marked: Mapping[str, str],
+    labels: Placer,
 ) -> str:
     kind, ident, service, label = edge
     colour = SERVICE_COLOUR[service]
@@ -237,23 +250,67 @@ def _edge(
             f'height="18" rx="3"/><path class="heater-coil" d="M{mx - 7:.1f} {my + 3:.1f}'
             f'l3.5 -6 3.5 6 3.5 -6 3.5 6"/>'
         )
-        text = f'<text class="lbl" x="{mx + 14:.1f}" y="{my + 4:.1f}">{escape(label)}</text>'
+        labels.block((mx - 11, my - 9, mx + 11, my + 9))
+        text = labels.request(2, "lbl", _beside(label, mx, my, 14.0))
         return _wrap(ident, "heater", body + text, marked, f"heater {ident}")
-    vertical = abs(child.y - parent.y)
-    if vertical >= 60:
-        lx, ly = child.x - 4, (parent.y + child.y) / 2
-        text = (
-            f'<text class="lbl" transform="translate({lx:.1f} {ly:.1f}) rotate(-90)" '
-            f'text-anchor="middle">{escape(label)}</text>'
-        )
-    else:  # along the run, from the child's end (siblings share the run)
-        right = child.x > parent.x
-        lx = child.x + (-6 if right else 6)
-        text = (
-            f'<text class="lbl" x="{lx:.1f}" y="{parent.y - 4:.1f}" '
-            f'text-anchor="{"end" if right else "start"}">{escape(label)}</text>'
-        )
+    text = labels.request(3, "lbl", _along(label, ident, parent, child))
     return _wrap(ident, "pipe", body + text, marked, f"pipe {label} ({service})")
+
+
+def _beside(text: str, x: float, y: float, gap: float, first: Spot | None = None) -> Iterator[Spot]:
+    """Spots around a symbol at (x, y), ``gap`` px from its centre (after ``first``):
+    right, left, below, above, a row lower or higher on either side, then on widening
+    rings. Made one at a time: a label in the clear never reads past its first."""
+    if first is not None:
+        yield first
+    w = text_width(text)
+    yield Spot(text, x + gap, y + 3)
+    yield Spot(text, x - gap - w, y + 3)
+    for dy in (gap + 8, -gap - 1, gap + 17, -gap - 10, gap + 26, -gap - 19):
+        yield Spot(text, x + 5, y + dy)
+        yield Spot(text, x - 5 - w, y + dy)
+    yield from _ring(text, x, y)
+
+
+def _along(label: str, ident: str, parent: _Node, child: _Node) -> Iterator[Spot]:
+    """Spots for a pipe's label: along its riser (turned) when it has a long one, along
+    its run, beside its short riser; then the same with the pipe id alone (the full label
+    stays in the element's title and in the pipes table); then the id in rings."""
+    rise = abs(child.y - parent.y)
+    my = (parent.y + child.y) / 2
+    run = abs(child.x - parent.x)
+    lo, hi = sorted((parent.x, child.x))
+    for text in (label, ident):
+        w = text_width(text)
+        if rise >= w + 16:
+            yield Spot(text, child.x - 4, my, -90)
+            yield Spot(text, child.x + 12, my, -90)
+        if run >= w + 12:
+            for x in ((lo + hi - w) / 2, hi - 6 - w, lo + 6):
+                yield Spot(text, x, parent.y - 4)
+                yield Spot(text, x, parent.y + 12)
+        if rise >= 8:
+            yield Spot(text, child.x + 6, my + 3)
+            yield Spot(text, child.x - 6 - w, my + 3)
+        if rise >= 24:
+            yield Spot(text, child.x - 4, my, -90)
+            yield Spot(text, child.x + 12, my, -90)
+    # crowded: the id alone, in rings around the middle of the run and of the riser
+    yield from _ring(ident, (parent.x + child.x) / 2, parent.y)
+    yield from _ring(ident, child.x, my)
+
+
+#: unit steps of a ring: eight directions
+_COMPASS = [(math.cos(k * math.pi / 4), math.sin(k * math.pi / 4)) for k in range(8)]
+
+
+def _ring(text: str, x: float, y: float) -> Iterator[Spot]:
+    """Spots on widening rings around (x, y): 7 rings of 8 (bounded)."""
+    w = text_width(text)
+    for r in (10.0, 18.0, 28.0, 40.0, 54.0, 72.0, 94.0):
+        for cx, cy in _COMPASS:
+            dx = r * cx
+            yield Spot(text, x + dx - (w if dx < -1 else w / 2 if dx <= 1 else 0.0), y + r * cy + 3)
 
 
 def _hanger(parent: _Node, child: _Node) -> str:
@@ -275,6 +332,7 @@ def _device(
     same: list[str],
     nodes: dict[str, _Node],
     marked: Mapping[str, str],
+    labels: Placer,
 ) -> str:
     on = pipe.id
     a, b = nodes.get(_key("n", pipe.start)), nodes.get(_key("n", pipe.end))
@@ -290,44 +348,49 @@ def _device(
     body = (
         halo + f'<rect class="device" x="{x - 5:.1f}" y="{y - 5:.1f}" width="10" height="10" '
         f'transform="rotate(45 {x:.1f} {y:.1f})"/>'
-        + f'<text class="lbl dev" x="{x + 8:.1f}" y="{y + 13:.1f}">{escape(ident)}</text>'
+        + labels.request(2, "lbl dev", _beside(ident, x, y, 10.0, Spot(ident, x + 8, y + 13)))
     )
+    labels.block((x - 7.1, y - 7.1, x + 7.1, y + 7.1))
     return _wrap(ident, "device", body, marked, f"{kind} {ident} on {on}")
 
 
-def _symbol(node: _Node, marked: Mapping[str, str]) -> str:
+def _symbol(node: _Node, marked: Mapping[str, str], labels: Placer) -> str:
     x, y, ident = node.x, node.y, node.id
     if node.kind == "supply":
+        labels.block((x - 11, y - 11, x + 11, y + 9))
         halo = _halo(ident, marked, f'<circle class="CLASS" cx="{x:.1f}" cy="{y:.1f}" r="16"/>')
         body = (
             halo + f'<path class="supply" d="M{x - 11:.1f} {y + 9:.1f}L{x:.1f} {y - 11:.1f}'
             f'L{x + 11:.1f} {y + 9:.1f}Z"/>'
-            + f'<text class="lbl id" x="{x + 14:.1f}" y="{y - 6:.1f}">{escape(ident)}</text>'
+            + labels.request(1, "lbl id", _beside(ident, x, y, 14, Spot(ident, x + 14, y - 6)))
         )
         return _wrap(ident, "supply", body, marked, f"supply {ident}")
     if node.kind == "point":
+        labels.block((x - 3.2, y - 3.2, x + 3.2, y + 3.2))
         halo = _halo(ident, marked, f'<circle class="CLASS" cx="{x:.1f}" cy="{y:.1f}" r="9"/>')
         body = (
             halo
             + f'<circle class="node" cx="{x:.1f}" cy="{y:.1f}" r="3.2"/>'
-            + f'<text class="lbl id" x="{x + 5:.1f}" y="{y + 11:.1f}">{escape(ident)}</text>'
+            + labels.request(1, "lbl id", _beside(ident, x, y, 5, Spot(ident, x + 5, y + 11)))
         )
         return _wrap(ident, "point", body, marked, f"point {ident}")
+    hung = chain(
+        [Spot(ident, x + 3, y + 10, 60), Spot(ident, x + 3, y + 22, 60)], _ring(ident, x, y)
+    )
     if node.kind == "arrester":
+        labels.block((x - 4, y - 10, x + 4, y + 6))
         halo = _halo(ident, marked, f'<circle class="CLASS" cx="{x:.1f}" cy="{y - 2:.1f}" r="12"/>')
         body = (
             halo + f'<rect class="arrester" x="{x - 4:.1f}" y="{y - 10:.1f}" width="8" height="16" '
-            'rx="4"/>' + f'<text class="lbl sym" transform="translate({x + 3:.1f} {y + 10:.1f}) '
-            f'rotate(60)">{escape(ident)}</text>'
+            'rx="4"/>' + labels.request(0, "lbl sym", hung)
         )
         return _wrap(ident, "arrester", body, marked, f"arrester {ident}")
     halo = _halo(ident, marked, f'<circle class="CLASS" cx="{x:.1f}" cy="{y:.1f}" r="12"/>')
     body = (
         halo + f'<path class="fixture" d="M{x - 7:.1f} {y - 6:.1f}H{x + 7:.1f}L{x + 4:.1f} '
-        f'{y + 6:.1f}H{x - 4:.1f}Z"/>'
-        + f'<text class="lbl sym" transform="translate({x + 3:.1f} {y + 10:.1f}) '
-        f'rotate(60)">{escape(ident)}</text>'
+        f'{y + 6:.1f}H{x - 4:.1f}Z"/>' + labels.request(0, "lbl sym", hung)
     )
+    labels.block((x - 7, y - 6, x + 7, y + 6))
     return _wrap(ident, "fixture", body, marked, f"fixture {ident}")
 
 
