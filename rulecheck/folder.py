@@ -26,17 +26,29 @@ from rulecheck.findings import Finding
 #: one file's outcome: (path, profile, findings), or the input error that stopped it
 Outcome = tuple[str, str, list[Finding]] | InputError
 
-# What the forked workers check with, set in the parent before the fork (inherited,
-# never pickled).
-_JOB: dict[str, object] = {}
+
+#: what a worker checks with: settings, profile per path, analysis options
+Job = tuple[Settings, Callable[[Path], str | None], AnalysisOptions]
+
+
+class _Job:
+    """What a worker checks with (settings, profile per path, analysis options): set once
+    per process by the pool's initializer (forked workers inherit it, nothing is pickled),
+    and in the parent for the files it checks itself."""
+
+    work: Job | None = None
+
+
+def _start(
+    settings: Settings, profile_for: Callable[[Path], str | None], options: AnalysisOptions
+) -> None:
+    _Job.work = (settings, profile_for, options)
 
 
 def _check_one(path: Path) -> Outcome:
-    settings = _JOB["settings"]
-    profile_for = _JOB["profile_for"]
-    options = _JOB["options"]
-    assert isinstance(settings, Settings) and isinstance(options, AnalysisOptions)
-    assert callable(profile_for)
+    if _Job.work is None:
+        raise RuntimeError("folder worker started without its job")
+    settings, profile_for, options = _Job.work
     try:
         result = pipeline.check_file(path, settings, profile_for(path), options)
     except InputError as exc:
@@ -65,7 +77,7 @@ def check_files(
     more than one file per worker, a transient run inside a file stays in its worker
     (``AnalysisOptions.workers = 1``): the files are the parallel unit.
     """
-    _JOB.update(settings=settings, profile_for=profile_for, options=options)
+    _start(settings, profile_for, options)
     count = min(workers or default_workers(), max(len(paths) - 1, 1))
     if count > 1:
         import multiprocessing as mp  # some 15 ms of imports: only for a pool
@@ -77,8 +89,10 @@ def check_files(
             yield _check_one(path)
         return
     yield _check_one(paths[0])  # imports and caches, before the fork
-    _JOB["options"] = replace(options, workers=1)
     rest = paths[1:]
     chunk = max(1, len(rest) // (count * 8))  # small chunks: files differ in size
-    with mp.get_context("fork").Pool(count) as pool:
+    one_process = replace(options, workers=1)  # the files are the parallel unit
+    with mp.get_context("fork").Pool(
+        count, initializer=_start, initargs=(settings, profile_for, one_process)
+    ) as pool:
         yield from pool.imap(_check_one, rest, chunksize=chunk)
