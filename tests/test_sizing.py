@@ -178,8 +178,6 @@ def _milp_optimum(path: Path) -> float:
                 child = layout.pipes[c]
                 if child.start != node or p.keep_size or child.keep_size:
                     continue
-                if (i, p.size) in index and len([v for v in variables if v[0] == i]) == 1:
-                    pass
                 row = np.zeros(len(variables))
                 for (j, s), n in index.items():  # the sizer's order measure (metric: bore)
                     if j == c:

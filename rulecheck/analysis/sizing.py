@@ -158,7 +158,8 @@ def size_pipes(
         sizes[pipes[i].id] = edge.labels[chosen_k.get(id(edge), 0)]
     shortfalls = find_shortfalls(layout, steady, need, need_by, hi, roots, children)
     notes: list[str] = []
-    if len(chosen_k) < len(edges) + len(layout.heaters) and not shortfalls and not too_fast:
+    unsolved = len(chosen_k) < len(edges) + len(layout.heaters) and not shortfalls and not too_fast
+    if unsolved:
         notes.append(
             "no combination of sizes meets the pressures with the order of sizes and the "
             "kept sizes; lift a keep_size or check the fixtures' minimum pressures"
@@ -195,6 +196,7 @@ def size_pipes(
         too_fast=tuple(too_fast),
         notes=tuple(notes),
         residual=residual,
+        unsolved=unsolved,
     )
 
 

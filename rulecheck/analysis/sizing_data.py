@@ -68,14 +68,13 @@ class SizingResult:
     too_fast: tuple[TooFast, ...] = ()
     notes: tuple[str, ...] = ()
     residual: dict[str, float] = field(default_factory=dict)  # predicted, sized [Pa]
+    # every fixture can be fed in itself, but no combination of sizes meets them all with
+    # the order of sizes and the kept sizes
+    unsolved: bool = False
 
     @property
     def feasible(self) -> bool:
-        return (
-            not self.shortfalls
-            and not self.too_fast
-            and "no combination" not in "".join(self.notes)
-        )
+        return not self.shortfalls and not self.too_fast and not self.unsolved
 
 
 _INCH = re.compile(r"(?:(\d+)-)?(\d+)/(\d+)|(\d+(?:\.\d+)?)")

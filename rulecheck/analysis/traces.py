@@ -24,7 +24,7 @@ from rulecheck.analysis.result import (
 )
 from rulecheck.analysis.transient_limits import RunRefused
 from rulecheck.analysis.transient_model import EventRun, build_event_network, run_event
-from rulecheck.analysis.transient_run import _same_run
+from rulecheck.analysis.transient_run import same_run
 
 #: At most this many valve sides are plotted per layout (the flagged ones first); each
 #: plot is one more run of the solver, and a reviewer reads a handful, not hundreds [D].
@@ -168,7 +168,7 @@ def valve_traces(analysis: Analysis, flagged_fixtures: set[str]) -> tuple[ValveT
         event: ValveEvent = analysis.surge.events[index]
         method = analysis.valve_events[index].method
         whole = method == METHOD_WHOLE
-        key = (_same_run(event), whole)
+        key = (same_run(event), whole)
         if key not in runs:
             try:
                 runs[key] = run_event(analysis, event, whole_tree=whole)

@@ -152,7 +152,7 @@ def _batches(analysis: Analysis, todo: list[int], limit: int) -> list[list[tuple
     return [ordered[j : j + BATCH_EVENTS] for j in range(0, len(ordered), BATCH_EVENTS)]
 
 
-def _same_run(event: ValveEvent) -> tuple:
+def same_run(event: ValveEvent) -> tuple:
     """What decides an event's run: events that agree on it (several fixtures of one type
     on one point) run once."""
     return (
@@ -175,7 +175,7 @@ def simulate_valves(
     wanted = [i for i, e in enumerate(events) if e.quick or options.all_valves]
     first: dict[tuple, int] = {}
     for i in wanted:
-        first.setdefault(_same_run(events[i]), i)
+        first.setdefault(same_run(events[i]), i)
     batches = _batches(analysis, sorted(first.values()), options.whole_tree_pipes)
     workers = min(options.workers or os.cpu_count() or 1, 8, len(batches))
     if workers > 1 and "fork" in mp.get_all_start_methods():
@@ -195,5 +195,5 @@ def simulate_valves(
     }
     wanted_set = set(wanted)
     return tuple(
-        found[first[_same_run(e)]] if i in wanted_set else None for i, e in enumerate(events)
+        found[first[same_run(e)]] if i in wanted_set else None for i, e in enumerate(events)
     )
