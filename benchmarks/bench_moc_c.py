@@ -39,7 +39,8 @@ sys.path.insert(0, str(ROOT))
 from generate_tower import generate  # noqa: E402
 
 from rulecheck.analysis import AnalysisOptions, transient_run  # noqa: E402
-from rulecheck.physics import transient_grid  # noqa: E402
+from rulecheck.physics import _moc_compiled as moc_compiled  # noqa: E402
+from rulecheck.physics import transient_grid, transient_stack  # noqa: E402
 from rulecheck.pipeline import analyse_file  # noqa: E402
 
 TARGET = 0.30
@@ -48,24 +49,24 @@ _LARGEST: dict[str, object] = {}
 
 
 def _instrument() -> None:
-    """Count sections x steps at the interior update; keep the largest grid's first state."""
+    """Count sections x steps of every stacked run (at the split of its results, whichever
+    step loop ran); keep the largest grid and its first state (the interior update is
+    bound to the state before the first step)."""
     cls = transient_grid.InteriorUpdate
-    init, call = cls.__init__, cls.__call__
+    init = cls.__init__
+    split = transient_stack.NetworkStack.split
 
-    def counting_init(self, grid, head, q, c):  # type: ignore[no-untyped-def]
+    def keeping_init(self, grid, head, q, c):  # type: ignore[no-untyped-def]
         init(self, grid, head, q, c)
-        self._bench_n = grid.n_sections
         if grid.n_sections > getattr(_LARGEST.get("grid"), "n_sections", 0):
-            _LARGEST.update(grid=grid, head=head, q=q, c=c, fresh=True)
+            _LARGEST.update(grid=grid, start=(head.copy(), q.copy(), c.copy()))
 
-    def counting_call(self):  # type: ignore[no-untyped-def]
-        if _LARGEST.get("fresh") and self.head is _LARGEST["head"]:
-            # the state as the first step finds it (after the steady initial conditions)
-            _LARGEST.update(start=(self.head.copy(), self.q.copy(), self.c.copy()), fresh=False)
-        _COUNT["updates"] += self._bench_n
-        call(self)
+    def counting_split(self, grid, record):  # type: ignore[no-untyped-def]
+        _COUNT["updates"] += grid.n_sections * (record.valve_h.shape[0] - 1)
+        return split(self, grid, record)
 
-    cls.__init__, cls.__call__ = counting_init, counting_call  # type: ignore[method-assign]
+    cls.__init__ = keeping_init  # type: ignore[method-assign]
+    transient_stack.NetworkStack.split = counting_split  # type: ignore[method-assign]
 
 
 def tower_run(path: Path) -> tuple[float, int]:
@@ -146,6 +147,7 @@ def main() -> int:
                 agree = float(np.max(np.abs(head_c - head_np)))
     sim, kern = statistics.median(tower_rate), statistics.median(numpy_rate)
     print(f"tower {tower.name}: {updates:,} node-updates a run; largest stacked grid {n} sections")
+    print(f"step loop: {moc_compiled.engine()}")
     print(f"tower simulation (1 worker):     {sim:10.3e} node-updates/s")
     print(f"numpy interior update alone:     {kern:10.3e} node-updates/s")
     if not c_rate:

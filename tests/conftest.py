@@ -11,7 +11,9 @@ from rulecheck's output, so that a wrong line or column is caught.
 
 from __future__ import annotations
 
+import os
 import re
+import tempfile
 from collections.abc import Callable
 from pathlib import Path
 
@@ -103,3 +105,8 @@ def cli(
         return rc, out, err
 
     return run
+
+
+# The compiled step loop (rulecheck/physics/moc_kernel.c) is built once per test session
+# into a folder of its own, not into the user's cache; subprocesses inherit the setting.
+os.environ.setdefault("RULECHECK_CACHE_DIR", tempfile.mkdtemp(prefix="rulecheck-kernel-"))

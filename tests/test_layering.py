@@ -30,6 +30,7 @@ LAYERS: list[tuple[str, tuple[str, ...]]] = [
             "rulecheck.suggest",
             "rulecheck.textscan",
             "rulecheck.resources",
+            "rulecheck.native",
         ),
     ),
     ("physics", ("rulecheck.physics",)),

@@ -33,7 +33,7 @@ from rulecheck.analysis.transient_model import (
     resolution_step,
     run_on,
 )
-from rulecheck.physics.transient import simulate_many
+from rulecheck.physics.transient import simulate_many, step_loop
 
 #: Events run together in one stacked simulation by ``check --transient`` [D: tuned with
 #: benchmarks/bench_transient.py; larger batches waste steps on their shorter events].
@@ -178,6 +178,7 @@ def simulate_valves(
         first.setdefault(same_run(events[i]), i)
     batches = _batches(analysis, sorted(first.values()), options.whole_tree_pipes)
     workers = min(options.workers or os.cpu_count() or 1, 8, len(batches))
+    step_loop()  # the compiled loop built (or found in the cache) once, before workers fork
     if workers > 1 and "fork" in mp.get_all_start_methods():
         with ProcessPoolExecutor(
             workers,

@@ -23,7 +23,17 @@ from collections.abc import Callable, Sequence
 
 import numpy as np
 
-from rulecheck.physics.transient_boundary import CavityTracker, opening_schedule, valve_heads
+from rulecheck.physics import _moc_compiled as moc_compiled
+from rulecheck.physics.transient_boundary import (
+    CAVITY_ONSET_TOLERANCE,
+    CAVITY_WEIGHT,
+    NEWTON_TOLERANCE,
+    NEWTON_TURNS,
+    ORIFICE_FLOOR,
+    CavityTracker,
+    opening_schedule,
+    valve_heads,
+)
 from rulecheck.physics.transient_grid import (
     DEFAULT_MAX_ADJUSTMENT,
     InteriorUpdate,
@@ -56,9 +66,31 @@ __all__ = [
     "TransientResult",
     "simulate",
     "simulate_many",
+    "step_loop",
 ]
 
 Monitor = Callable[[float, np.ndarray, np.ndarray], None]
+
+
+def step_loop() -> str:
+    """Which step loop runs the simulations: the compiled C kernel or the numpy loop.
+
+    The kernel (``moc_kernel.c``, the numpy loop of ``_run`` in C) is built with the
+    system C compiler at the first call and cached per user; without a compiler the
+    numpy loop runs, with the same results. Call it before forking workers so that
+    they share one build.
+
+    Returns
+    -------
+    str
+        'compiled C', or 'numpy (reason)' [-].
+
+    References
+    ----------
+    1. ``rulecheck/physics/moc_kernel.c``; ``tests/test_moc_compiled.py`` ties it to the
+       numpy loop [D].
+    """
+    return moc_compiled.engine()
 
 
 def simulate(
@@ -320,8 +352,65 @@ def _run(
     recording = np.ones(n, dtype=bool)  # sections whose network has not reached its end
     all_recording, next_end = True, int(n_steps.min())
     stride = max(1, math.ceil(last / 100))
-
-    for k in range(1, last + 1):
+    kernel = moc_compiled.load() if monitor is None else None
+    if bank is None:
+        gas_rec = np.empty((last + 1, 0))
+    if kernel is not None:  # the same steps as the loop below, in C
+        moc_compiled.run_steps(
+            kernel,
+            {
+                "H": H,
+                "Q": Q,
+                "C": C,
+                "b2": np.concatenate((grid.Bm, grid.Bp)),
+                "r2": np.concatenate((grid.Rm, grid.Rp)),
+                "inv2b": grid.inv2B,
+                "end_cidx": end_cidx,
+                "end_qidx": end_qidx,
+                "end_sec": end_sec,
+                "end_node": end_node,
+                "end_invb": end_invB,
+                "end_sinvb": end_sinvB,
+                "node_invsb": node_invSB,
+                "cend": cend,
+                "sc": np.empty(n_nodes),
+                "Hn": Hn,
+                "fixed_idx": fixed_idx,
+                "fixed_val": fixed_val,
+                "cv_t": cv_t,
+                "bare_idx": bare_idx,
+                "bare_node": bare_nodes,
+                "bare_sb": bare_sb,
+                "bare_zv": bare_zv,
+                "v_nodes": v_nodes,
+                "zv": zv,
+                "hmax": hmax,
+                "hmin": hmin,
+                "net_end": n_steps,
+                "net_sec": np.append(grid.offset, n)[stack.pipe_off],
+                "valve_h": valve_h,
+                "valve_q": valve_q,
+                "gas": gas_rec,
+                "node_sb": cav.node_sb,
+                "sec_invb": cav.sec_invb,
+                **moc_compiled.arrester_slots(bank, *((arr_sb, arr_zv, arr_hv) if bank else ())),
+            },
+            {
+                "n": n,
+                "n_nodes": n_nodes,
+                "n_ends": end_sec.size,
+                "n_nets": len(networks),
+                "n_fixed": fixed_idx.size,
+                "n_bare": bare_idx.size,
+                "n_arr": bank.node.size if bank else 0,
+                "turns": NEWTON_TURNS,
+            },
+            (CAVITY_WEIGHT, NEWTON_TOLERANCE, CAVITY_ONSET_TOLERANCE, ORIFICE_FLOOR),
+            (cav.at_nodes, cav.in_pipes),
+            last,
+            progress,
+        )
+    for k in range(1, last + 1 if kernel is None else 1):
         interior()  # C+, C- and interior sections (pipe ends are overwritten below)
         # Nodes: H = S_C / S_B, then roots, valves, arresters, cavities.
         C.take(end_cidx, out=cend)

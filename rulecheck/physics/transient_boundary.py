@@ -140,9 +140,13 @@ def valve_heads(
 
 #: Newton on the arrester gas volume stops when a step moves it by less than this
 #: fraction of the gas volume (relative pressure error ~1e-11) [D: numerical
-#: tolerance]; it gives up after ``_NEWTON_TURNS`` turns.
-_NEWTON_TOLERANCE = 1e-11
-_NEWTON_TURNS = 60
+#: tolerance]; it gives up after ``NEWTON_TURNS`` turns.
+NEWTON_TOLERANCE = 1e-11
+NEWTON_TURNS = 60
+
+#: Smallest (H - z_valve) taken in the orifice's slope dQ/dH = Cv / (2 sqrt(H - z)), so
+#: a valve at zero head gives a finite slope [m] [D: numerical tolerance].
+ORIFICE_FLOOR = 1e-18
 
 
 class ArresterBank:
@@ -230,13 +234,13 @@ class ArresterBank:
         # H(V) = base + p(V) / (rho g), p = K V^-n; dH/dV = -n p / (V rho g)
         base, neg_n, slope_of = z - p_atm * inv_rho_g, -n, -n * inv_rho_g
         rest = sc + q_old - two_dt * v_old  # f(V) = rest - S_B H - Q_valve + 2 V / dt
-        half_cv, tol = 0.5 * cv, _NEWTON_TOLERANCE * v_old
+        half_cv, tol = 0.5 * cv, NEWTON_TOLERANCE * v_old
         any_valve = bool((cv > 0.0).any())
         # start from the trend of the last two steps: Newton then needs one or two turns
         v = np.minimum(np.maximum(v_old + (v_old - self.previous[i]), 0.5 * v_old), v_max)
         self.previous[i] = v_old
         going = np.ones(i.size, dtype=bool)
-        for _ in range(_NEWTON_TURNS):
+        for _ in range(NEWTON_TURNS):
             p = k * v**neg_n
             h = base + p * inv_rho_g
             f = rest - sb * h + two_dt * v
@@ -244,7 +248,7 @@ class ArresterBank:
             if any_valve:  # orifice Q = Cv sqrt(H - zv) where H > zv, else closed
                 s = np.sqrt(np.maximum(h - zv, 0.0))
                 f -= cv * s
-                ds = sb + half_cv * s / np.maximum(s * s, 1e-18)
+                ds = sb + half_cv * s / np.maximum(s * s, ORIFICE_FLOOR)
             v_new = v - f / (two_dt - ds * (slope_of * p / v))
             v_new = np.where(going, np.where(v_new <= 0.0, 0.5 * v, v_new), v)
             going &= np.abs(v_new - v) > tol
@@ -314,6 +318,20 @@ class CavityPlaces:
             if i in self._open:
                 self.events[self._open.pop(i)][-1] = k * float(self.dt[i])
         return keep
+
+    def record(self, events: np.ndarray, open_event: np.ndarray) -> None:
+        """Take the events of a run of the compiled step loop: rows (place, step formed,
+        step collapsed or -1), and the event still open at each place (or -1)."""
+        self.events = [
+            [
+                *self._label(i),
+                k0 * float(self.dt[i]),
+                k1 * float(self.dt[i]) if k1 >= 0 else math.nan,
+            ]
+            for i, k0, k1 in events.tolist()
+        ]
+        self._open = {i: int(e) for i, e in enumerate(open_event.tolist()) if e >= 0}
+        self.n_open = int((self.vol > 0.0).sum())
 
 
 class CavityTracker:
