@@ -19,6 +19,7 @@ of the static head for the linear equations, an approximation once cavities form
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -89,7 +90,7 @@ def _path_nodes(analysis: Analysis, event: ValveEvent) -> set[str]:
     # are left out of the path model like the other branches [D]
     if event.protected_by is None:
         return keep
-    node = next(a.at for a in layout.arresters if a.id == event.protected_by)
+    node = layout.arrester_by_id[event.protected_by].at
     chain = []
     while node not in keep and node in tree.parent:
         chain.append(node)
@@ -109,6 +110,13 @@ class EventModel:
     sized_arresters: dict[str, float]  # arrester id -> equivalent gas volume [m³] we sized
     unstopped_arresters: list[str]  # no precharge given: a gas volume without a piston stop
     left_out: list[str] = field(default_factory=list)  # points the supply cannot fill
+
+
+@functools.lru_cache(maxsize=256)
+def _design_flow(fixture_units: float) -> float:
+    """Hunter's design flow of an arrester's rated fixture units [m³/s] (a pure function of
+    its argument, asked for every event an unsized arrester takes part in)."""
+    return float(demand_flow(fixture_units, False))
 
 
 def build_event_network(
@@ -134,8 +142,10 @@ def build_event_network(
                 node,
             )
     nodes, empty = [], set()  # points the supply cannot fill, and all beyond them
-    for n in tree.order:
-        if tree.root_of.get(n) != root or (wanted is not None and n not in wanted):
+    # in the tree's order (parents before children), so that nodes are numbered alike
+    candidates = tree.order if wanted is None else sorted(wanted, key=tree.position.__getitem__)
+    for n in candidates:
+        if tree.root_of.get(n) != root:
             continue
         if n != root and (layout.pipes[tree.parent[n]].start in empty or not filled(n)):
             empty.add(n)
@@ -180,9 +190,8 @@ def build_event_network(
             for k in event.path
         )
     )
-    for arrester in layout.arresters:
-        if arrester.kind != "sealed" or arrester.at not in index:
-            continue
+    here = sorted(x for n in nodes for x in layout.sealed_arresters_at.get(n, ()))
+    for _, arrester in here:  # in the layout's order
         p_static = analysis.static_min[arrester.at] + STANDARD_ATMOSPHERE
         precharge = (
             arrester.precharge + STANDARD_ATMOSPHERE if arrester.precharge is not None else p_static
@@ -197,7 +206,7 @@ def build_event_network(
                     "give its gas_volume and precharge",
                     arrester.id,
                 )
-            class_flow = float(demand_flow(arrester.capacity, False))
+            class_flow = _design_flow(arrester.capacity)
             volume = gas_volume_for_energy(
                 max(energy, design_column_energy(class_flow, water.density)),
                 p_static,

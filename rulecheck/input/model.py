@@ -6,6 +6,7 @@ Built from a validated document by :mod:`rulecheck.input.build`. Everything down
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass, field
 
@@ -221,3 +222,21 @@ class Layout:
 
     def temperature(self, service: str) -> float:
         return self.cold_temperature if service == "cold" else self.hot_temperature
+
+    @functools.cached_property
+    def arrester_by_id(self) -> dict[str, Arrester]:
+        """Arrester id -> arrester, the first of that id (built on first use; the layout
+        itself never changes)."""
+        found: dict[str, Arrester] = {}
+        for a in self.arresters:
+            found.setdefault(a.id, a)
+        return found
+
+    @functools.cached_property
+    def sealed_arresters_at(self) -> dict[str, list[tuple[int, Arrester]]]:
+        """Point -> (index in ``arresters``, arrester) of the sealed arresters there."""
+        found: dict[str, list[tuple[int, Arrester]]] = {}
+        for i, a in enumerate(self.arresters):
+            if a.kind == "sealed":
+                found.setdefault(a.at, []).append((i, a))
+        return found

@@ -27,6 +27,7 @@ class Tree:
     order: list[str] = field(default_factory=list)  # nodes, roots first, parents before children
     root_of: dict[str, str] = field(default_factory=dict)
     depth: dict[str, int] = field(default_factory=dict)
+    position: dict[str, int] = field(default_factory=dict)  # node -> its index in ``order``
 
 
 @dataclass
@@ -132,6 +133,7 @@ def _walk(tree: Tree, children: dict[str, list[int]], pipes: list[Pipe]) -> None
         tree.depth[root] = 0
     while queue:
         node = queue.popleft()
+        tree.position[node] = len(tree.order)
         tree.order.append(node)
         for index in children.get(node, ()):
             child = pipes[index].end

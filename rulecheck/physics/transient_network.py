@@ -94,7 +94,15 @@ class TransientResult:
     max_wave_speed_adjustment: float  # largest |a_adj / a - 1| [-]
     reaches: tuple[int, ...]  # reaches per pipe
     arrester_gas: tuple[np.ndarray, ...]  # per arrester: gas volume vs t [m^3]
-    arrester_gas_pressure: tuple[np.ndarray, ...]  # per arrester: absolute gas pressure vs t [Pa]
+    arrester_gas_law: tuple[tuple[float, float], ...]  # per arrester: K [Pa m^3n], n [-]
+
+    @property
+    def arrester_gas_pressure(self) -> tuple[np.ndarray, ...]:
+        """Per arrester: absolute gas pressure vs t, p = K V^-n [Pa] (worked out when asked:
+        most runs never look at it)."""
+        return tuple(
+            k * v**-n for (k, n), v in zip(self.arrester_gas_law, self.arrester_gas, strict=True)
+        )
 
 
 def validate_network(net: TransientNetwork) -> None:

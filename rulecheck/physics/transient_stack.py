@@ -193,14 +193,11 @@ class NetworkStack:
             times = np.arange(n + 1) * step[i]
             i_peak = int(np.argmax(valve_p))
             gas: tuple[np.ndarray, ...] = ()
-            pressures: tuple[np.ndarray, ...] = ()
+            law: tuple[tuple[float, float], ...] = ()
             if bank is not None and gas_rec is not None:
                 mine = np.flatnonzero(arr_net == i)
                 gas = tuple(gas_rec[: n + 1, j].copy() for j in mine)
-                pressures = tuple(
-                    bank.constant[j] * g ** -bank.exponent[j]
-                    for j, g in zip(mine, gas, strict=True)
-                )
+                law = tuple((float(bank.constant[j]), float(bank.exponent[j])) for j in mine)
             largest = max(
                 float(cav.at_nodes.largest[nodes].max()),
                 float(cav.in_pipes.largest[sec_off[i] : sec_off[i + 1]].max()),
@@ -226,7 +223,7 @@ class NetworkStack:
                     max_wave_speed_adjustment=float(np.abs(grid.adjustment[pipes]).max()),
                     reaches=tuple(int(x) for x in grid.reaches[pipes]),
                     arrester_gas=gas,
-                    arrester_gas_pressure=pressures,
+                    arrester_gas_law=law,
                 )
             )
         return results
