@@ -2,8 +2,8 @@
 
 1. ``check --transient``'s simulation step (``analysis.transient_run.simulate_valves``, one
    worker, in process) on the 500-fixture tower (20 floors x 25 fixtures, from
-   ``generate_tower.py``); node-updates = sections x steps of every stacked run, counted
-   at the interior update each step calls.
+   ``generate_tower.py``); node-updates = sections x steps of every simulated network
+   (the steps a stacked run spends on members that have ended are not counted).
 2. On the largest stacked grid of that run: the numpy interior update alone
    (``physics.transient_grid.InteriorUpdate``) and ``moc_reference.c``, the same update as a
    plain C loop, compiled here with the system compiler (``cc -O2``, no fast-math), from the
@@ -49,9 +49,9 @@ _LARGEST: dict[str, object] = {}
 
 
 def _instrument() -> None:
-    """Count sections x steps of every stacked run (at the split of its results, whichever
-    step loop ran); keep the largest grid and its first state (the interior update is
-    bound to the state before the first step)."""
+    """Count each simulated network's sections x steps (at the split of the stacked run's
+    results, whichever step loop ran); keep the largest grid and its first state (the
+    interior update is bound to the state before the first step)."""
     cls = transient_grid.InteriorUpdate
     init = cls.__init__
     split = transient_stack.NetworkStack.split
@@ -62,7 +62,10 @@ def _instrument() -> None:
             _LARGEST.update(grid=grid, start=(head.copy(), q.copy(), c.copy()))
 
     def counting_split(self, grid, record):  # type: ignore[no-untyped-def]
-        _COUNT["updates"] += grid.n_sections * (record.valve_h.shape[0] - 1)
+        # each network's sections x its own steps: what the simulation needs, not the
+        # steps a stacked run could spend on members that have already ended
+        sections = np.diff(np.append(grid.offset, grid.n_sections)[self.pipe_off])
+        _COUNT["updates"] += int((sections * record.n_steps).sum())
         return split(self, grid, record)
 
     cls.__init__ = keeping_init  # type: ignore[method-assign]

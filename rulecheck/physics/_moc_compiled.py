@@ -30,7 +30,8 @@ POINTERS = (
     "H Q C b2 r2 inv2b end_cidx end_qidx end_sec end_node end_invb end_sinvb node_invsb "
     "cend sc Hn fixed_idx fixed_val cv_t bare_idx bare_node bare_sb bare_zv v_nodes zv "
     "a_node a_valve a_z a_k a_n a_vmax a_dt a_rhog a_patm a_sb a_zv a_hv a_vol a_prev "
-    "a_flow a_stop a_pre hmax hmin net_sec net_end valve_h valve_q gas node_sb sec_invb"
+    "a_flow a_stop a_pre hmax hmin net_sec net_pipe net_node net_end a_net runs valve_h "
+    "valve_q gas node_sb sec_invb"
 ).split()
 #: Slots of one kind of cavity place (``CV_*`` enum).
 PLACE_SLOTS = ("hv", "onset", "vol", "net", "largest", "dt", "end", "open", "events")
@@ -56,7 +57,7 @@ def _bind(library: ctypes.CDLL) -> ctypes.CDLL:
     library.moc_steps.argtypes = [ctypes.c_void_p] * 3 + [ctypes.c_int64] * 2
     counts = np.zeros(3, dtype=np.int64)
     library.moc_slots(counts.ctypes.data)
-    wanted = [len(POINTERS) + 2 * len(PLACE_SLOTS), len(INTS) + len(INTS_EVENTS), 4]
+    wanted = [len(POINTERS) + 2 * len(PLACE_SLOTS), len(INTS) + len(INTS_EVENTS), 5]
     if counts.tolist() != wanted:
         raise OSError(f"kernel slots {counts.tolist()}, expected {wanted}")
     return library
@@ -103,7 +104,7 @@ class _PlaceBuffers:
 #: Slots holding int64 arrays (``a_stop`` is uint8, every other slot float64).
 INT_SLOTS = frozenset(
     "end_cidx end_qidx end_sec end_node fixed_idx bare_idx bare_node v_nodes a_node a_valve "
-    "net_sec net_end end open events".split()
+    "net_sec net_pipe net_node net_end a_net runs end open events".split()
 )
 
 
@@ -139,7 +140,7 @@ def run_steps(
     library: ctypes.CDLL,
     arrays: dict[str, np.ndarray],
     ints: dict[str, int],
-    constants: tuple[float, float, float, float],
+    constants: tuple[float, float, float, float, float],
     places: tuple[CavityPlaces, CavityPlaces],
     last: int,
     progress: Callable[[float], None] | None,

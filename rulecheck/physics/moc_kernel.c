@@ -27,7 +27,7 @@ enum {
     P_V_NODES, P_ZV,
     P_A_NODE, P_A_VALVE, P_A_Z, P_A_K, P_A_N, P_A_VMAX, P_A_DT, P_A_RHOG, P_A_PATM,
     P_A_SB, P_A_ZV, P_A_HV, P_A_VOL, P_A_PREV, P_A_FLOW, P_A_STOP, P_A_PRE,
-    P_HMAX, P_HMIN, P_NET_SEC, P_NET_END, P_VALVE_H, P_VALVE_Q, P_GAS,
+    P_HMAX, P_HMIN, P_NET_SEC, P_NET_PIPE, P_NET_NODE, P_NET_END, P_A_NET, P_RUNS, P_VALVE_H, P_VALVE_Q, P_GAS,
     P_NODE_SB, P_SEC_INVB,
     P_CAV, /* then CAV_SLOTS for the node places, CAV_SLOTS for the section places */
 };
@@ -39,7 +39,7 @@ enum {
     I_EV0, I_CAP0, I_EV1, I_CAP1, /* events recorded and capacity: nodes, sections */
     N_INTS
 };
-enum { D_WEIGHT, D_NEWTON_TOL, D_ONSET_TOL, D_ORIFICE_FLOOR, N_DOUBLES };
+enum { D_WEIGHT, D_NEWTON_TOL, D_ONSET_TOL, D_ORIFICE_FLOOR, D_SERIES_STEP, N_DOUBLES };
 
 typedef struct {
     int64_t size;
@@ -112,6 +112,14 @@ static Places places(void **p, int64_t first, int64_t size, int64_t *n_ev) {
     return P;
 }
 
+/* gas_pressure: p = K v^m from p at v_at, by the binomial series for small moves */
+static double gas_pressure(double p, double v_at, double v, double k, double m, double c2,
+                           double c3, double series_step) {
+    double x = (v - v_at) / v_at;
+    if (fabs(x) <= series_step) return p * (1.0 + x * (m + x * (c2 + x * c3)));
+    return k * pow(v, m);
+}
+
 /* ArresterBank._off_stop for arrester j: returns the node head */
 static double off_stop(void **p, const double *dv, int64_t turns, int64_t j, double sc,
                        double sb, double cv, double zv) {
@@ -129,8 +137,13 @@ static double off_stop(void **p, const double *dv, int64_t turns, int64_t j, dou
     if (v < 0.5 * v_old) v = 0.5 * v_old;
     if (v > v_max) v = v_max;
     prev[j] = v_old;
+    double c2 = neg_n * (neg_n - 1.0) * 0.5, c3 = neg_n * (neg_n - 1.0) * (neg_n - 2.0) / 6.0;
+    double step = dv[D_SERIES_STEP], pg = k * pow(v, neg_n), v_at = v;
     for (int64_t turn = 0; turn < turns; turn++) {
-        double pg = k * pow(v, neg_n);
+        if (turn) {
+            pg = gas_pressure(pg, v_at, v, k, neg_n, c2, c3, step);
+            v_at = v;
+        }
         double h = base + pg * inv_rho_g;
         double f = rest - sb * h + two_dt * v;
         double ds = sb;
@@ -145,7 +158,7 @@ static double off_stop(void **p, const double *dv, int64_t turns, int64_t j, dou
         v = v_new;
         if (done) break;
     }
-    double head = base + k * pow(v, neg_n) * inv_rho_g;
+    double head = base + gas_pressure(pg, v_at, v, k, neg_n, c2, c3, step) * inv_rho_g;
     int back = v >= v_max;
     if (back) {
         double q = -(v_max - v_old) / dt[j];
@@ -184,7 +197,9 @@ int64_t moc_steps(void **p, int64_t *iv, const double *dv, int64_t k0, int64_t k
     double *a_vol = p[P_A_VOL], *a_prev = p[P_A_PREV], *a_flow = p[P_A_FLOW];
     uint8_t *a_stop = p[P_A_STOP];
     double *restrict hmax = p[P_HMAX], *restrict hmin = p[P_HMIN];
-    const int64_t *net_sec = p[P_NET_SEC], *net_end = p[P_NET_END];
+    const int64_t *net_sec = p[P_NET_SEC], *net_end = p[P_NET_END], *a_net = p[P_A_NET];
+    const int64_t *net_pipe = p[P_NET_PIPE], *net_node = p[P_NET_NODE];
+    int64_t *runs = p[P_RUNS], n_pipes = n_ends / 2;
     double *valve_h = p[P_VALVE_H], *valve_q = p[P_VALVE_Q], *gas = p[P_GAS];
     const double *node_sb = p[P_NODE_SB], *sec_invb = p[P_SEC_INVB];
     Places at_nodes = places(p, P_CAV, n_nodes, &iv[I_EV0]);
@@ -195,28 +210,51 @@ int64_t moc_steps(void **p, int64_t *iv, const double *dv, int64_t k0, int64_t k
 
     for (int64_t k = k0; k < k1; k++) {
         if (iv[I_CAP0] - iv[I_EV0] < n_nodes || iv[I_CAP1] - iv[I_EV1] < n) return k;
-        /* interior: C+ and C- from the old state, then heads and flows (InteriorUpdate) */
-        for (int64_t s = 0; s + 1 < n; s++) {
-            double qm = Q[1 + s], qp = Q[n + s];
-            double wm = (b2[s] - fabs(qm) * r2[s]) * qm;
-            double wp = (b2[n - 1 + s] - fabs(qp) * r2[n - 1 + s]) * qp;
-            CM[s] = H[s + 1] - wm;
-            CP[s + 1] = H[s] + wp;
+        /* Networks past their last step are not advanced: nothing of theirs is recorded
+         * any more. The others form runs of consecutive networks (one run when, as in
+         * check --transient, the longest come first); each run's sections, pipes and
+         * nodes are contiguous. */
+        int64_t n_runs = 0;
+        for (int64_t i = 0; i < n_nets; i++) {
+            if (net_end[i] < k) continue;
+            if (n_runs && runs[2 * n_runs - 1] == i) runs[2 * n_runs - 1] = i + 1;
+            else { runs[2 * n_runs] = i; runs[2 * n_runs + 1] = i + 1; n_runs++; }
         }
+        /* interior: C+ and C- from the old state, then heads and flows (InteriorUpdate);
+         * C- at a network's last section and C+ at its first are never used (pipe ends
+         * take the node solution), so a run's loop leaves them */
         int below = 0; /* a section's head fell below its vapour head */
-        for (int64_t s = 0; s < n; s++) {
-            H[s] = (CP[s] + CM[s]) * 0.5;
-            Qu[s] = (CP[s] - CM[s]) * inv2b[s];
-            Qd[s] = Qu[s];
-            below |= H[s] < sec_onset[s];
+        for (int64_t r = 0; r < n_runs; r++) {
+            int64_t lo = net_sec[runs[2 * r]], hi = net_sec[runs[2 * r + 1]];
+            for (int64_t s = lo; s + 1 < hi; s++) {
+                double qm = Q[1 + s], qp = Q[n + s];
+                double wm = (b2[s] - fabs(qm) * r2[s]) * qm;
+                double wp = (b2[n - 1 + s] - fabs(qp) * r2[n - 1 + s]) * qp;
+                CM[s] = H[s + 1] - wm;
+                CP[s + 1] = H[s] + wp;
+            }
+            for (int64_t s = lo; s < hi; s++) {
+                H[s] = (CP[s] + CM[s]) * 0.5;
+                Qu[s] = (CP[s] - CM[s]) * inv2b[s];
+                Qd[s] = Qu[s];
+                below |= H[s] < sec_onset[s];
+            }
         }
         /* nodes: H = S_C / S_B, then roots, valves, arresters, cavities */
-        for (int64_t i = 0; i < n_nodes; i++) sc[i] = 0.0;
-        for (int64_t e = 0; e < n_ends; e++) {
-            cend[e] = C[end_cidx[e]];
-            sc[end_node[e]] += cend[e] * end_invb[e];
+        for (int64_t r = 0; r < n_runs; r++) {
+            int64_t n0 = net_node[runs[2 * r]], n1 = net_node[runs[2 * r + 1]];
+            int64_t p0 = net_pipe[runs[2 * r]], p1 = net_pipe[runs[2 * r + 1]];
+            for (int64_t i = n0; i < n1; i++) sc[i] = 0.0;
+            /* upstream ends, then downstream ends: each node sums its ends in the order
+             * of the whole stack's ends, as the numpy loop's bincount does */
+            for (int64_t side = 0; side < 2; side++) {
+                for (int64_t e = side * n_pipes + p0; e < side * n_pipes + p1; e++) {
+                    cend[e] = C[end_cidx[e]];
+                    sc[end_node[e]] += cend[e] * end_invb[e];
+                }
+            }
+            for (int64_t i = n0; i < n1; i++) Hn[i] = sc[i] * node_invsb[i];
         }
-        for (int64_t i = 0; i < n_nodes; i++) Hn[i] = sc[i] * node_invsb[i];
         for (int64_t i = 0; i < n_fixed; i++) Hn[fixed_idx[i]] = fixed_val[i];
         const double *cv = cv_t + k * n_nets;
         for (int64_t b = 0; b < n_bare; b++) {
@@ -225,6 +263,7 @@ int64_t moc_steps(void **p, int64_t *iv, const double *dv, int64_t k0, int64_t k
         }
         for (int64_t j = 0; j < n_arr; j++) {
             int64_t node = a_node[j];
+            if (net_end[a_net[j]] < k) continue; /* its network has ended */
             if (!(at_nodes.vol[node] <= 0.0)) continue; /* a cavity holds the piston */
             double acv = a_valve[j] >= 0 ? cv[a_valve[j]] : 0.0;
             int was = a_stop[j];
@@ -249,10 +288,12 @@ int64_t moc_steps(void **p, int64_t *iv, const double *dv, int64_t k0, int64_t k
                 at_nodes.onset[node] = at_nodes.hv[node] - onset_tol;
             }
         }
-        for (int64_t i = 0; i < n_nodes; i++) {
-            if (!(at_nodes.vol[i] > 0.0 || Hn[i] < at_nodes.onset[i])) continue;
-            double hv = at_nodes.hv[i];
-            if (advance(&at_nodes, i, hv * node_sb[i] - sc[i], k, weight)) Hn[i] = hv;
+        for (int64_t r = 0; r < n_runs; r++) {
+            for (int64_t i = net_node[runs[2 * r]]; i < net_node[runs[2 * r + 1]]; i++) {
+                if (!(at_nodes.vol[i] > 0.0 || Hn[i] < at_nodes.onset[i])) continue;
+                double hv = at_nodes.hv[i];
+                if (advance(&at_nodes, i, hv * node_sb[i] - sc[i], k, weight)) Hn[i] = hv;
+            }
         }
         for (int64_t i = 0; i < n_nets; i++) {
             double h_v = Hn[v_nodes[i]], dh = h_v - zv[i];
@@ -261,27 +302,31 @@ int64_t moc_steps(void **p, int64_t *iv, const double *dv, int64_t k0, int64_t k
         }
         if (below || open_in_pipes) { /* CavityTracker.sections */
             open_in_pipes = 0;
-            for (int64_t s = 0; s < n; s++) {
-                if (!(in_pipes.vol[s] > 0.0 || H[s] < sec_onset[s])) continue;
-                double hv = in_pipes.hv[s], invb = sec_invb[s];
-                double q_in = (CP[s] - hv) * invb, q_out = (hv - CM[s]) * invb;
-                if (advance(&in_pipes, s, q_out - q_in, k, weight)) {
-                    H[s] = hv;
-                    Qu[s] = q_in;
-                    Qd[s] = q_out;
-                    open_in_pipes++;
+            for (int64_t r = 0; r < n_runs; r++) {
+                for (int64_t s = net_sec[runs[2 * r]]; s < net_sec[runs[2 * r + 1]]; s++) {
+                    if (!(in_pipes.vol[s] > 0.0 || H[s] < sec_onset[s])) continue;
+                    double hv = in_pipes.hv[s], invb = sec_invb[s];
+                    double q_in = (CP[s] - hv) * invb, q_out = (hv - CM[s]) * invb;
+                    if (advance(&in_pipes, s, q_out - q_in, k, weight)) {
+                        H[s] = hv;
+                        Qu[s] = q_in;
+                        Qd[s] = q_out;
+                        open_in_pipes++;
+                    }
                 }
             }
         }
         /* pipe ends take the node head; their flows follow from the characteristics */
-        for (int64_t e = 0; e < n_ends; e++) {
-            double h = Hn[end_node[e]];
-            H[end_sec[e]] = h;
-            Q[end_qidx[e]] = (cend[e] - h) * end_sinvb[e];
-        }
-        for (int64_t i = 0; i < n_nets; i++) {
-            if (net_end[i] < k) continue; /* this network has ended: envelope kept */
-            for (int64_t s = net_sec[i]; s < net_sec[i + 1]; s++) {
+        for (int64_t r = 0; r < n_runs; r++) {
+            int64_t p0 = net_pipe[runs[2 * r]], p1 = net_pipe[runs[2 * r + 1]];
+            for (int64_t side = 0; side < 2; side++) {
+                for (int64_t e = side * n_pipes + p0; e < side * n_pipes + p1; e++) {
+                    double h = Hn[end_node[e]];
+                    H[end_sec[e]] = h;
+                    Q[end_qidx[e]] = (cend[e] - h) * end_sinvb[e];
+                }
+            }
+            for (int64_t s = net_sec[runs[2 * r]]; s < net_sec[runs[2 * r + 1]]; s++) {
                 hmax[s] = H[s] > hmax[s] ? H[s] : hmax[s];
                 hmin[s] = H[s] < hmin[s] ? H[s] : hmin[s];
             }

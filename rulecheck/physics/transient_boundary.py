@@ -149,6 +149,69 @@ NEWTON_TURNS = 60
 ORIFICE_FLOOR = 1e-18
 
 
+#: Largest relative change of the gas volume for which ``gas_pressure`` takes the series
+#: instead of a new power: the series' first neglected term, about
+#: n(n+1)(n+2)(n+3)/24 x^4, stays under 2e-16 relative for n <= 1.4 [D: Taylor remainder].
+GAS_SERIES_STEP = 1e-4
+
+
+def gas_pressure(
+    p: np.ndarray,
+    v_at: np.ndarray,
+    v: np.ndarray,
+    k: np.ndarray,
+    m: np.ndarray,
+    c2: np.ndarray,
+    c3: np.ndarray,
+) -> np.ndarray:
+    """Polytropic gas pressure p = K V^m (m = -n) at volume v, from p at v_at (vectorised).
+
+    Within a Newton solve the volume moves little from turn to turn, so with
+    x = v / v_at - 1 the binomial series p_new = p (1 + m x + c2 x^2 + c3 x^3),
+    c2 = m (m - 1) / 2, c3 = m (m - 1) (m - 2) / 6, gives K v^m to round-off for
+    |x| <= GAS_SERIES_STEP, without the power; larger moves take K v^m.
+
+    Parameters
+    ----------
+    p : ndarray
+        Gas pressure at ``v_at`` [Pa].
+    v_at : ndarray
+        Volume ``p`` belongs to [m^3].
+    v : ndarray
+        Volume wanted [m^3].
+    k : ndarray
+        K = p V^n [Pa m^3n].
+    m : ndarray
+        -n, minus the polytropic exponent [-].
+    c2 : ndarray
+        m (m - 1) / 2 [-].
+    c3 : ndarray
+        m (m - 1) (m - 2) / 6 [-].
+
+    Returns
+    -------
+    ndarray
+        Absolute gas pressure at ``v`` [Pa].
+
+    Examples
+    --------
+    >>> m = np.array([-1.2]); c2 = m * (m - 1.0) * 0.5; c3 = m * (m - 1.0) * (m - 2.0) / 6.0
+    >>> p = gas_pressure(np.array([2e5]), np.array([1e-4]), np.array([1.00001e-4]),
+    ...                  np.array([2e5 * 1e-4**1.2]), m, c2, c3)
+    >>> bool(abs(p[0] / (2e5 * 1.00001**-1.2) - 1) < 1e-15)
+    True
+
+    References
+    ----------
+    1. Binomial series (1 + x)^m = sum C(m, j) x^j, |x| < 1 [S: Abramowitz & Stegun,
+       Handbook of Mathematical Functions, 3.6.8; from memory; verify against the
+       adopted edition].
+    """
+    x = (v - v_at) / v_at
+    near = np.abs(x) <= GAS_SERIES_STEP
+    return np.where(near, p * (1.0 + x * (m + x * (c2 + x * c3))), k * v**m)
+
+
 class ArresterBank:
     """Gas arresters at nodes: polytropic gas p V^n = const behind a piston with a stop.
 
@@ -240,8 +303,11 @@ class ArresterBank:
         v = np.minimum(np.maximum(v_old + (v_old - self.previous[i]), 0.5 * v_old), v_max)
         self.previous[i] = v_old
         going = np.ones(i.size, dtype=bool)
-        for _ in range(NEWTON_TURNS):
-            p = k * v**neg_n
+        c2, c3 = neg_n * (neg_n - 1.0) * 0.5, neg_n * (neg_n - 1.0) * (neg_n - 2.0) / 6.0
+        p, v_at = k * v**neg_n, v  # gas pressure, and the volume it is for
+        for turn in range(NEWTON_TURNS):
+            if turn:
+                p, v_at = gas_pressure(p, v_at, v, k, neg_n, c2, c3), v
             h = base + p * inv_rho_g
             f = rest - sb * h + two_dt * v
             ds = sb  # d(S_B H + Q_valve)/dH
@@ -256,7 +322,7 @@ class ArresterBank:
             if not going.any():
                 break
         back = v >= v_max  # back on the stop: implicit Euler for this step
-        head = base + k * v**neg_n * inv_rho_g
+        head = base + gas_pressure(p, v_at, v, k, neg_n, c2, c3) * inv_rho_g
         if back.any():
             q = -(v_max[back] - v_old[back]) / self.dt[i[back]]
             self.on_stop[i[back]] = True
