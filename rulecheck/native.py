@@ -27,7 +27,7 @@ from pathlib import Path
 
 #: Standard C, position-independent, and no floating-point licence (no fused multiply-add,
 #: no fast-math), so the compiled loop does the arithmetic the source spells out.
-FLAGS = ("-O2", "-std=c99", "-fPIC", "-shared", "-ffp-contract=off", "-fno-fast-math")
+FLAGS = ("-O3", "-std=c99", "-fPIC", "-shared", "-ffp-contract=off", "-fno-fast-math")
 
 
 def cache_dirs() -> list[Path]:

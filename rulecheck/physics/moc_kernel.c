@@ -171,6 +171,32 @@ static double off_stop(void **p, const double *dv, int64_t turns, int64_t j, dou
     return head;
 }
 
+/* InteriorUpdate, C+ and C- of sections 0 .. m of a run (pointers start at its first
+ * section): cm[s] = H[s+1] - (Bm - Rm |Qu[s+1]|) Qu[s+1], cp[s+1] = H[s] + (Bp - Rp |Qd|) Qd.
+ * Separate pointers, no overlap, so that the compiler can use vector instructions. */
+static void characteristics(double *restrict cm, double *restrict cp1, const double *restrict h,
+                            const double *restrict qu1, const double *restrict qd,
+                            const double *restrict bm, const double *restrict bp,
+                            const double *restrict rm, const double *restrict rp, int64_t m) {
+    for (int64_t s = 0; s < m; s++) {
+        double qm = qu1[s], qp = qd[s];
+        cm[s] = h[s + 1] - (bm[s] - fabs(qm) * rm[s]) * qm;
+        cp1[s] = h[s] + (bp[s] - fabs(qp) * rp[s]) * qp;
+    }
+}
+
+/* InteriorUpdate, heads and flows of sections 0 .. m - 1 of a run */
+static void sections(double *restrict h, double *restrict qu, double *restrict qd,
+                     const double *restrict cp, const double *restrict cm,
+                     const double *restrict inv2b, int64_t m) {
+    for (int64_t s = 0; s < m; s++) {
+        double q = (cp[s] - cm[s]) * inv2b[s];
+        h[s] = (cp[s] + cm[s]) * 0.5;
+        qu[s] = q;
+        qd[s] = q;
+    }
+}
+
 /* Steps k0 .. k1 - 1. Returns the next step to run: k1 when all ran, less when an event
  * buffer might overflow in the next step (the caller grows it and calls again). */
 int64_t moc_steps(void **p, int64_t *iv, const double *dv, int64_t k0, int64_t k1) {
@@ -226,19 +252,10 @@ int64_t moc_steps(void **p, int64_t *iv, const double *dv, int64_t k0, int64_t k
         int below = 0; /* a section's head fell below its vapour head */
         for (int64_t r = 0; r < n_runs; r++) {
             int64_t lo = net_sec[runs[2 * r]], hi = net_sec[runs[2 * r + 1]];
-            for (int64_t s = lo; s + 1 < hi; s++) {
-                double qm = Q[1 + s], qp = Q[n + s];
-                double wm = (b2[s] - fabs(qm) * r2[s]) * qm;
-                double wp = (b2[n - 1 + s] - fabs(qp) * r2[n - 1 + s]) * qp;
-                CM[s] = H[s + 1] - wm;
-                CP[s + 1] = H[s] + wp;
-            }
-            for (int64_t s = lo; s < hi; s++) {
-                H[s] = (CP[s] + CM[s]) * 0.5;
-                Qu[s] = (CP[s] - CM[s]) * inv2b[s];
-                Qd[s] = Qu[s];
-                below |= H[s] < sec_onset[s];
-            }
+            characteristics(CM + lo, CP + lo + 1, H + lo, Qu + lo + 1, Qd + lo, b2 + lo,
+                            b2 + n - 1 + lo, r2 + lo, r2 + n - 1 + lo, hi - lo - 1);
+            sections(H + lo, Qu + lo, Qd + lo, CP + lo, CM + lo, inv2b + lo, hi - lo);
+            for (int64_t s = lo; s < hi && !below; s++) below = H[s] < sec_onset[s];
         }
         /* nodes: H = S_C / S_B, then roots, valves, arresters, cavities */
         for (int64_t r = 0; r < n_runs; r++) {

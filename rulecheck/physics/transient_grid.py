@@ -28,6 +28,10 @@ from rulecheck.physics.constants import STANDARD_GRAVITY
 DEFAULT_MAX_ADJUSTMENT = 0.05
 
 
+#: Divisors m tried per numpy pass by ``choose_time_step`` [D: tuned on the tower benchmark].
+_DIVISORS_AT_ONCE = 4
+
+
 def choose_time_step(
     travel_times: Sequence[float], max_adjustment: float = DEFAULT_MAX_ADJUSTMENT
 ) -> tuple[float, np.ndarray, float]:
@@ -83,17 +87,18 @@ def choose_time_step(
     # e = 0 first so that an exact grid wins ties.
     shifts = np.concatenate(([0.0], np.linspace(-max_adjustment, max_adjustment, 41)))
     best: tuple[float, np.ndarray, float] | None = None
-    for m in range(1, 1001):
-        dts = tmin / m * (1.0 + shifts)
-        x = tt[:, None] / dts[None, :]
+    for first in range(1, 1001, _DIVISORS_AT_ONCE):  # several m per numpy pass, tried in order
+        ms = np.arange(first, min(first + _DIVISORS_AT_ONCE, 1001), dtype=float)
+        dts = tmin / ms[:, None] * (1.0 + shifts)  # (m, shift)
+        x = tt[:, None, None] / dts[None, :, :]
         n = np.maximum(1.0, np.rint(x))
         adj = np.abs(x / n - 1.0).max(axis=0)
-        j = int(np.argmin(adj))
-        cand = (float(dts[j]), n[:, j].astype(np.int64), float(adj[j]))
-        if best is None or cand[2] < best[2]:
-            best = cand
-        if adj[j] <= max_adjustment:
-            return cand
+        for row, j in enumerate(np.argmin(adj, axis=1).tolist()):
+            cand = (float(dts[row, j]), n[:, row, j].astype(np.int64), float(adj[row, j]))
+            if best is None or cand[2] < best[2]:
+                best = cand
+            if adj[row, j] <= max_adjustment:
+                return cand
     assert best is not None
     return best
 
@@ -385,33 +390,37 @@ def steady_node_heads(
     1. Wylie & Streeter (1993), steady state of the characteristics grid
        [S: engineering-basis §10].
     """
-    head = np.full(n_nodes, np.nan)
+    # plain lists in the walk: it visits every pipe once, one scalar at a time
+    head: list[float | None] = [None] * n_nodes
     adjacency: list[list[tuple[int, int, float]]] = [[] for _ in range(n_nodes)]
-    drop = loss_coefficient * flow * np.abs(flow)
-    for k in range(upstream.size):
-        u, d = int(upstream[k]), int(downstream[k])
-        adjacency[u].append((d, k, -float(drop[k])))
-        adjacency[d].append((u, k, float(drop[k])))
+    drop = (loss_coefficient * flow * np.abs(flow)).tolist()
+    for k, (u, d) in enumerate(zip(upstream.tolist(), downstream.tolist(), strict=True)):
+        adjacency[u].append((d, k, -drop[k]))
+        adjacency[d].append((u, k, drop[k]))
     queue: deque[int] = deque()
     for node, h in fixed_heads.items():
-        head[node] = h
+        head[node] = float(h)
         queue.append(node)
-    seen_pipe = np.zeros(upstream.size, dtype=bool)
+    seen_pipe = [False] * upstream.size
     while queue:
         node = queue.popleft()
+        here = head[node]
+        assert here is not None  # queued nodes have a head
         for other, k, delta in adjacency[node]:
             if seen_pipe[k]:
                 continue
             seen_pipe[k] = True
-            h = head[node] + delta
-            if np.isnan(head[other]):
+            h = here + delta
+            there = head[other]
+            if there is None or math.isnan(there):
                 head[other] = h
                 queue.append(other)
-            elif abs(head[other] - h) > 1e-6:
+            elif abs(there - h) > 1e-6:
                 raise ValueError(
-                    f"node {other}: steady heads disagree by {abs(head[other] - h):.3g} m "
+                    f"node {other}: steady heads disagree by {abs(there - h):.3g} m "
                     "(a loop, or fixed heads inconsistent with the given flows)"
                 )
-    if np.any(np.isnan(head)):
-        raise ValueError(f"nodes {np.flatnonzero(np.isnan(head)).tolist()} reach no fixed head")
-    return head
+    found = np.array([math.nan if h is None else h for h in head], dtype=float)
+    if np.any(np.isnan(found)):
+        raise ValueError(f"nodes {np.flatnonzero(np.isnan(found)).tolist()} reach no fixed head")
+    return found
