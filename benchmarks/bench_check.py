@@ -11,6 +11,8 @@ of ``--repeat`` runs:
 
 * bare parse: ``yaml.load(text, Loader=yaml.CSafeLoader)`` of the same text,
   the floor any YAML tool pays;
+* event stream: ``yaml.parse(text, Loader=yaml.CSafeLoader)`` iterated with the
+  events discarded: libyaml's C parser alone, the floor of reading the file at all;
 * check: :func:`rulecheck.pipeline.check_file` in this process (read, parse
   with positions, schema, build, network, analysis, surge screening, rules),
   after one warm-up check of a small sample so that one-time costs (unit
@@ -24,9 +26,10 @@ off for the in-process timings (bare parse and check alike): the bare parse
 spends most of its time in the collector, so this shows the ratio of the work
 itself.
 
-Target: the 10k-pipe layout checks in no more than 3x its bare parse, and the
-check cost per pipe stays flat from 10k to 100k pipes (linear growth; within
-1.3x is reported as linear).
+Targets: the 10k-pipe layout checks in no more than 3x its bare parse, and the
+check cost per pipe stays flat from 10k to 100k pipes (within 1.3x is reported as
+linear); issue 14 tightens both: the 10k check in no more than 3x the event stream,
+and the cost per pipe at 100k within 1.1x of that at 10k.
 """
 
 from __future__ import annotations
@@ -53,6 +56,14 @@ OUT = ROOT / "benchmarks" / "out"
 SAMPLE = ROOT / "samples" / "two-bath-house.yaml"
 TARGET_RATIO = 3.0
 LINEAR_TOLERANCE = 1.3
+EVENTS_RATIO = 3.0  # issue 14: check / C event stream at 10k
+EVENTS_LINEAR = 1.1  # issue 14: us per pipe at 100k / at 10k
+
+
+def event_stream(text: str) -> None:
+    """libyaml's C parser over ``text``, every event discarded."""
+    for _ in yaml.parse(text, Loader=yaml.CSafeLoader):
+        pass
 
 
 def best_of(repeat: int, run: Callable[[], object]) -> float:
@@ -100,6 +111,7 @@ def measure(pipes: int, repeat: int, cli: bool) -> dict[str, float]:
     row = {
         "pipes": float(count),
         "bare": best_of(repeat, lambda: yaml.load(text, Loader=yaml.CSafeLoader)),
+        "events": best_of(repeat, lambda: event_stream(text)),
         "check": best_of(repeat, lambda: check_file(path)),
         "cli": best_of(repeat, lambda: run_cli(path)) if cli else float("nan"),
     }
@@ -131,8 +143,8 @@ def main(argv: list[str] | None = None) -> int:
         f"garbage collector {'off' if args.no_gc else 'on'}"
     )
     header = (
-        f"{'pipes':>8} {'bare parse s':>13} {'check s':>9} {'ratio':>6} "
-        f"{'check/pipe us':>14} {'CLI s':>8} {'CLI-check s':>12}"
+        f"{'pipes':>8} {'bare parse s':>13} {'events s':>9} {'check s':>9} {'ratio':>6} "
+        f"{'/events':>8} {'check/pipe us':>14} {'CLI s':>8} {'CLI-check s':>12}"
     )
     print(header)
     rows = []
@@ -141,8 +153,9 @@ def main(argv: list[str] | None = None) -> int:
         rows.append(row)
         per_pipe = row["check"] / row["pipes"] * 1e6
         print(
-            f"{row['pipes']:>8.0f} {row['bare']:>13.3f} {row['check']:>9.3f} "
-            f"{row['check'] / row['bare']:>6.2f} {per_pipe:>14.1f} {row['cli']:>8.3f} "
+            f"{row['pipes']:>8.0f} {row['bare']:>13.3f} {row['events']:>9.3f} "
+            f"{row['check']:>9.3f} {row['check'] / row['bare']:>6.2f} "
+            f"{row['check'] / row['events']:>8.2f} {per_pipe:>14.1f} {row['cli']:>8.3f} "
             f"{row['cli'] - row['check']:>12.3f}",
             flush=True,
         )
@@ -153,12 +166,20 @@ def main(argv: list[str] | None = None) -> int:
         ratio = ten["check"] / ten["bare"]
         verdict = "met" if ratio <= TARGET_RATIO else "NOT met"
         print(f"target at 10k: check {ratio:.2f}x bare parse (limit {TARGET_RATIO:g}x): {verdict}")
+        ratio = ten["check"] / ten["events"]
+        verdict = "met" if ratio <= EVENTS_RATIO else "NOT met"
+        print(
+            f"issue 14 at 10k: check {ratio:.2f}x the C event stream "
+            f"(limit {EVENTS_RATIO:g}x): {verdict}"
+        )
     hundred = by_size.get(100_000)
     if ten is not None and hundred is not None:
         small = ten["check"] / ten["pipes"] * 1e6
         large = hundred["check"] / hundred["pipes"] * 1e6
         growth = large / small
         verdict = "linear" if growth <= LINEAR_TOLERANCE else "NOT linear"
+        strict = "met" if growth <= EVENTS_LINEAR else "NOT met"
+        print(f"issue 14 linearity: x{growth:.2f} (limit x{EVENTS_LINEAR:g}): {strict}")
         print(
             f"linearity: {small:.1f} us/pipe at 10k, {large:.1f} us/pipe at 100k "
             f"(x{growth:.2f}): {verdict}; at 100k check is "

@@ -2,11 +2,15 @@
 
 from __future__ import annotations
 
+import dataclasses
+import types
 from pathlib import Path
 
 import pytest
 
+from rulecheck.analysis.screening import pipe_wave_speeds
 from rulecheck.cli import main
+from rulecheck.physics.wavespeed import ANCHORINGS, wave_speed
 from rulecheck.pipeline import analyse_file, check_file
 
 CASES = Path(__file__).resolve().parent / "cases"
@@ -63,3 +67,30 @@ def test_analyze_json_lists_valves(capsys: pytest.CaptureFixture[str]) -> None:
         "protected_by",
     }
     assert all("wave_speed" in p for p in data["pipes"].values())
+
+
+def test_vectorised_wave_speeds_equal_the_formula_pipe_by_pipe() -> None:
+    """``pipe_wave_speeds`` (one numpy call per anchoring) gives every pipe the same speed,
+    to the last bit, as ``wave_speed`` called on that pipe alone [S: Korteweg–Halliwell,
+    engineering-basis §7], with the three anchorings mixed in one layout."""
+    analysis = analyse_file(Path(__file__).resolve().parent.parent / "samples/fernhill-clinic.yaml")
+    pipes = [
+        dataclasses.replace(p, anchoring=ANCHORINGS[i % 3])
+        for i, p in enumerate(analysis.layout.pipes)
+    ]
+    layout = dataclasses.replace(analysis.layout, pipes=pipes)
+    mixed = types.SimpleNamespace(layout=layout, water_for=analysis.water_for)
+    one_by_one = [
+        wave_speed(
+            analysis.water_for(p.service).bulk_modulus,
+            analysis.water_for(p.service).density,
+            p.material.modulus_at(layout.temperature(p.service), p.size),
+            p.material.poisson,
+            p.inner_diameter,
+            p.wall,
+            p.anchoring,
+        )
+        for p in pipes
+    ]
+    assert pipe_wave_speeds(mixed).tolist() == one_by_one  # type: ignore[arg-type]
+    assert len({p.anchoring for p in pipes}) == 3

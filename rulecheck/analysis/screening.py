@@ -69,20 +69,25 @@ def pipes_over_rating(event: ValveEvent, ratings: Mapping[str, float]) -> list[t
 
 
 def pipe_wave_speeds(analysis: SteadyState) -> np.ndarray:
-    """Korteweg–Halliwell wave speed of each pipe at its service temperature."""
+    """Korteweg–Halliwell wave speed of each pipe at its service temperature (one
+    vectorised call per kind of anchoring)."""
     layout = analysis.layout
-    speeds = np.zeros(len(layout.pipes))
-    for i, pipe in enumerate(layout.pipes):
-        water = analysis.water_for(pipe.service)
-        speeds[i] = wave_speed(
-            water.bulk_modulus,
-            water.density,
-            pipe.material.modulus_at(layout.temperature(pipe.service), pipe.size),
-            pipe.material.poisson,
-            pipe.inner_diameter,
-            pipe.wall,
-            pipe.anchoring,
-        )
+    pipes = layout.pipes
+    water = [analysis.water_for(p.service) for p in pipes]
+    columns = (
+        [w.bulk_modulus for w in water],
+        [w.density for w in water],
+        [p.material.modulus_at(layout.temperature(p.service), p.size) for p in pipes],
+        [p.material.poisson for p in pipes],
+        [p.inner_diameter for p in pipes],
+        [p.wall for p in pipes],
+    )
+    values = [np.array(c, dtype=float) for c in columns]
+    anchoring = np.array([p.anchoring for p in pipes], dtype=object)
+    speeds = np.zeros(len(pipes))
+    for kind in sorted(set(anchoring.tolist())):
+        sel = anchoring == kind
+        speeds[sel] = wave_speed(*(v[sel] for v in values), kind)
     return frozen_array(speeds)
 
 
