@@ -12,6 +12,7 @@ file, the files are checked in this process, one after another.
 
 from __future__ import annotations
 
+import gc
 import os
 from collections.abc import Callable, Iterator
 from dataclasses import replace
@@ -90,9 +91,16 @@ def check_files(
         return
     yield _check_one(paths[0])  # imports and caches, before the fork
     rest = paths[1:]
-    chunk = max(1, len(rest) // (count * 8))  # small chunks: files differ in size
+    # one file per task: files differ in size, and a task's round trip (under a
+    # millisecond) is small beside a file's check, so the workers end close together
     one_process = replace(options, workers=1)  # the files are the parallel unit
-    with mp.get_context("fork").Pool(
-        count, initializer=_start, initargs=(settings, profile_for, one_process)
-    ) as pool:
-        yield from pool.imap(_check_one, rest, chunksize=chunk)
+    # objects made so far are kept out of the collector's walks, which would otherwise
+    # write to (and so copy) every page the forked workers share with this process
+    gc.freeze()
+    try:
+        with mp.get_context("fork").Pool(
+            count, initializer=_start, initargs=(settings, profile_for, one_process)
+        ) as pool:
+            yield from pool.imap(_check_one, rest, chunksize=1)
+    finally:
+        gc.unfreeze()
