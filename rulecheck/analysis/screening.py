@@ -87,7 +87,8 @@ def pipe_wave_speeds(analysis: SteadyState) -> np.ndarray:
     speeds = np.zeros(len(pipes))
     for kind in sorted(set(anchoring.tolist())):
         sel = anchoring == kind
-        speeds[sel] = wave_speed(*(v[sel] for v in values), kind)
+        k, rho, modulus, poisson, inner, wall = (v[sel] for v in values)
+        speeds[sel] = wave_speed(k, rho, modulus, poisson, inner, wall, kind)
     return frozen_array(speeds)
 
 
