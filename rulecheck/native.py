@@ -8,7 +8,9 @@ temporary directory when that one cannot be written), under a name keyed by the
 source, the compiler command and the platform; later runs load the cached file. A
 build goes to a temporary file that is renamed into place, so two processes building
 at once cannot leave a torn file. When there is no compiler or the build fails, the
-caller gets None and the reason, and runs its pure-Python path instead.
+caller gets None and the reason, and runs its pure-Python path instead. A caller that
+knows early that it will need the library can :func:`start_building` it, so that the
+compiler runs beside its other work.
 """
 
 from __future__ import annotations
@@ -48,26 +50,68 @@ def compiler() -> list[str] | None:
     return None
 
 
-def _build(command: list[str], source: Path, target: Path) -> str | None:
-    """Compile ``source`` into ``target`` (renamed into place); the complaint, or None."""
-    target.parent.mkdir(parents=True, exist_ok=True)
-    handle, temporary = tempfile.mkstemp(dir=target.parent, prefix=".build-", suffix=target.suffix)
-    os.close(handle)
-    try:
-        done = subprocess.run(
-            [*command, *FLAGS, "-o", temporary, str(source), "-lm"],
-            capture_output=True,
-            text=True,
-            timeout=120,
-            check=False,
-        )
-        if done.returncode != 0:
-            return (done.stderr or done.stdout).strip()[:500] or f"exit code {done.returncode}"
-        os.replace(temporary, target)
-        return None
-    finally:
-        if os.path.exists(temporary):
-            os.unlink(temporary)
+class _Build:
+    """A compiler run writing ``temporary``, renamed to ``target`` when it succeeds."""
+
+    def __init__(self, command: list[str], source: Path, target: Path) -> None:
+        target.parent.mkdir(parents=True, exist_ok=True)
+        handle, name = tempfile.mkstemp(dir=target.parent, prefix=".build-", suffix=target.suffix)
+        os.close(handle)
+        self.target, self.temporary, self.owner = target, Path(name), os.getpid()
+        try:
+            self.process = subprocess.Popen(
+                [*command, *FLAGS, "-o", name, str(source), "-lm"],
+                stdin=subprocess.DEVNULL,
+                stdout=subprocess.PIPE,
+                stderr=subprocess.STDOUT,
+                text=True,
+            )
+        except OSError:
+            self.temporary.unlink(missing_ok=True)
+            raise
+
+    def finish(self) -> str | None:
+        """Wait for the compiler; the complaint, or None once the library is in place."""
+        try:
+            output, _ = self.process.communicate(timeout=120)
+            if self.process.returncode != 0:
+                return output.strip()[:500] or f"exit code {self.process.returncode}"
+            os.replace(self.temporary, self.target)
+            return None
+        except subprocess.TimeoutExpired:
+            self.process.kill()
+            self.process.communicate()
+            return "the compiler took more than 120 s"
+        finally:
+            self.temporary.unlink(missing_ok=True)
+
+
+#: builds started by :func:`start_building` and not yet collected, by source
+_PENDING: dict[Path, _Build] = {}
+
+
+def _target(source: Path, command: list[str], folder: Path) -> Path:
+    parts = [source.read_bytes(), " ".join([*command, *FLAGS]).encode()]
+    parts += [platform.machine().encode(), sys.platform.encode()]
+    key = hashlib.sha256(b"\0".join(parts)).hexdigest()[:20]
+    return folder / f"{source.stem}-{key}{'.dll' if sys.platform == 'win32' else '.so'}"
+
+
+def start_building(source: Path) -> None:
+    """Start compiling ``source`` in the background when its library is not cached yet,
+    so that the compiler runs on another core while this process does other work;
+    :func:`load_library` collects it. Does nothing when there is no compiler."""
+    command = compiler()
+    if command is None or source in _PENDING:
+        return
+    for folder in cache_dirs():
+        target = _target(source, command, folder)
+        try:
+            if not target.exists():
+                _PENDING[source] = _Build(command, source, target)
+            return
+        except OSError:
+            continue
 
 
 def load_library(source: Path) -> tuple[ctypes.CDLL | None, str | None]:
@@ -76,16 +120,17 @@ def load_library(source: Path) -> tuple[ctypes.CDLL | None, str | None]:
     command = compiler()
     if command is None:
         return None, "no C compiler found (set CC to use one)"
-    parts = [source.read_bytes(), " ".join([*command, *FLAGS]).encode()]
-    parts += [platform.machine().encode(), sys.platform.encode()]
-    key = hashlib.sha256(b"\0".join(parts)).hexdigest()[:20]
-    name = f"{source.stem}-{key}{'.dll' if sys.platform == 'win32' else '.so'}"
+    pending = _PENDING.pop(source, None)
+    if pending is not None and pending.owner == os.getpid():  # not one a forked parent began
+        complaint = pending.finish()
+        if complaint is not None:
+            return None, f"the C kernel did not compile: {complaint}"
     reason = "no writable cache folder"
     for folder in cache_dirs():
-        target = folder / name
+        target = _target(source, command, folder)
         try:
             if not target.exists():
-                complaint = _build(command, source, target)
+                complaint = _Build(command, source, target).finish()
                 if complaint is not None:
                     return None, f"the C kernel did not compile: {complaint}"
             return ctypes.CDLL(str(target)), None

@@ -62,6 +62,10 @@ def check_file(
     options: AnalysisOptions | None = None,
 ) -> FileResult:
     """The analysis of one layout file and the findings of the rules on it."""
+    if options is not None and options.transient:
+        from rulecheck.physics.transient import start_step_loop
+
+        start_step_loop()  # the compiler (first run only) works while the file is read
     with _collector_paused():
         analysis = analyse(load_layout(path, profile), options)
         findings = run_rules(analysis, settings)

@@ -210,3 +210,38 @@ def test_kernel_slots_match_the_c_source() -> None:
     places = text[text.index("enum { CV_") : text.index("CAV_SLOTS };")]
     names = [w.strip()[3:].lower() for w in places[len("enum {") :].split(",") if w.strip()]
     assert names == list(moc_compiled.PLACE_SLOTS)
+
+
+@needs_compiler
+def test_a_build_started_early_is_collected_once(tmp_path: Path) -> None:
+    """``start_step_loop`` starts the compiler in the background; the first ``step_loop``
+    waits for that build instead of starting another, and leaves one library, no
+    temporary files."""
+    env = {**os.environ, "RULECHECK_CACHE_DIR": str(tmp_path / "cache")}
+    env.pop("RULECHECK_KERNEL", None)
+    code = (
+        "from rulecheck import native\n"
+        "from rulecheck.physics.transient import start_step_loop, step_loop\n"
+        "start_step_loop()\n"
+        "print(len(native._PENDING), end=' ')\n"
+        "print(step_loop(), len(native._PENDING))\n"
+    )
+    assert _fresh(env, code) == "1 compiled C 0"
+    assert [p.name.startswith("moc_kernel-") for p in (tmp_path / "cache").iterdir()] == [True]
+    assert _fresh(env, code) == "0 compiled C 0"  # cached: nothing to start
+
+
+@needs_compiler
+def test_check_transient_on_a_fresh_cache_builds_and_reports(tmp_path: Path) -> None:
+    """The whole command on an empty cache: the build runs beside the screening and the
+    report is the same bytes as with the numpy loop."""
+    layout = SAMPLES / "fernhill-clinic.yaml"
+    argv = [sys.executable, "-m", "rulecheck", "check", str(layout), "--transient"]
+    argv += ["--format", "json", "--fail-on", "never"]
+    fresh = {**os.environ, "RULECHECK_CACHE_DIR": str(tmp_path / "cache")}
+    fresh.pop("RULECHECK_KERNEL", None)
+    plain = {**os.environ, "RULECHECK_KERNEL": "numpy"}
+    built = subprocess.run(argv, env=fresh, capture_output=True, check=True).stdout
+    reference = subprocess.run(argv, env=plain, capture_output=True, check=True).stdout
+    assert built == reference
+    assert len(list((tmp_path / "cache").glob("moc_kernel-*.so"))) == 1

@@ -20,7 +20,7 @@ from pathlib import Path
 
 import numpy as np
 
-from rulecheck.native import load_library
+from rulecheck.native import load_library, start_building
 from rulecheck.physics.transient_boundary import ArresterBank, CavityPlaces
 
 SOURCE = Path(__file__).with_name("moc_kernel.c")
@@ -76,6 +76,12 @@ def load() -> ctypes.CDLL | None:
             except (OSError, AttributeError) as error:
                 _Loaded.reason = f"the C kernel does not match this version: {error}"
     return _Loaded.library
+
+
+def start() -> None:
+    """Start building the kernel in the background (see :func:`rulecheck.native.start_building`)."""
+    if not _Loaded.tried and os.environ.get("RULECHECK_KERNEL", "").lower() != "numpy":
+        start_building(SOURCE)
 
 
 def reason() -> str | None:

@@ -17,6 +17,9 @@
  */
 #include <math.h>
 #include <stdint.h>
+#if defined(__SSE2__)
+#include <emmintrin.h>
+#endif
 
 enum {
     P_H, P_Q, P_C, P_B2, P_R2, P_INV2B,
@@ -197,6 +200,24 @@ static void sections(double *restrict h, double *restrict qu, double *restrict q
     }
 }
 
+/* Whether any h[s] < onset[s], s < m (the compiler will not vectorise this search on its
+ * own; SSE2 is part of every x86-64, elsewhere the plain loop runs). */
+static int any_below(const double *restrict h, const double *restrict onset, int64_t m) {
+    int64_t s = 0;
+    int found = 0;
+#if defined(__SSE2__)
+    __m128d seen = _mm_setzero_pd();
+    for (; s + 4 <= m; s += 4) {
+        __m128d a = _mm_cmplt_pd(_mm_loadu_pd(h + s), _mm_loadu_pd(onset + s));
+        __m128d b = _mm_cmplt_pd(_mm_loadu_pd(h + s + 2), _mm_loadu_pd(onset + s + 2));
+        seen = _mm_or_pd(seen, _mm_or_pd(a, b));
+    }
+    found = _mm_movemask_pd(seen) != 0;
+#endif
+    for (; s < m; s++) found |= h[s] < onset[s];
+    return found;
+}
+
 /* Steps k0 .. k1 - 1. Returns the next step to run: k1 when all ran, less when an event
  * buffer might overflow in the next step (the caller grows it and calls again). */
 int64_t moc_steps(void **p, int64_t *iv, const double *dv, int64_t k0, int64_t k1) {
@@ -255,7 +276,7 @@ int64_t moc_steps(void **p, int64_t *iv, const double *dv, int64_t k0, int64_t k
             characteristics(CM + lo, CP + lo + 1, H + lo, Qu + lo + 1, Qd + lo, b2 + lo,
                             b2 + n - 1 + lo, r2 + lo, r2 + n - 1 + lo, hi - lo - 1);
             sections(H + lo, Qu + lo, Qd + lo, CP + lo, CM + lo, inv2b + lo, hi - lo);
-            for (int64_t s = lo; s < hi && !below; s++) below = H[s] < sec_onset[s];
+            below = below || any_below(H + lo, sec_onset + lo, hi - lo);
         }
         /* nodes: H = S_C / S_B, then roots, valves, arresters, cavities */
         for (int64_t r = 0; r < n_runs; r++) {

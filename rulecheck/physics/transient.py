@@ -67,6 +67,7 @@ __all__ = [
     "TransientResult",
     "simulate",
     "simulate_many",
+    "start_step_loop",
     "step_loop",
 ]
 
@@ -92,6 +93,25 @@ def step_loop() -> str:
        numpy loop [D].
     """
     return moc_compiled.engine()
+
+
+def start_step_loop() -> None:
+    """Start building the compiled step loop in the background, if it is not cached yet.
+
+    The C compiler then runs on another core while the caller reads and screens the
+    layout; :func:`step_loop` (or the first simulation) collects the build. Without a
+    compiler, or with ``RULECHECK_KERNEL=numpy``, nothing happens.
+
+    Returns
+    -------
+    None
+        Nothing; the build's outcome is :func:`step_loop`'s [-].
+
+    References
+    ----------
+    1. ``rulecheck/native.py`` (the build and its cache) [D].
+    """
+    moc_compiled.start()
 
 
 def simulate(
