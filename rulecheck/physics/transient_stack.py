@@ -181,6 +181,21 @@ class NetworkStack:
             i = int(self.pipe_net[int(pipe)])
             pipe_events[i].append((int(pipe) - int(pipe_off[i]), float(x), float(t0), float(t1)))
         sec_off = np.append(grid.offset, grid.n_sections)[pipe_off]
+        # per-network figures in one pass each (reduceat over each network's slice)
+        largest_at = np.maximum(
+            np.maximum.reduceat(cav.at_nodes.largest, node_off[:-1]),
+            np.maximum.reduceat(cav.in_pipes.largest, sec_off[:-1]),
+        ).tolist()
+        adjustment = np.maximum.reduceat(np.abs(grid.adjustment), pipe_off[:-1]).tolist()
+        reaches = grid.reaches.tolist()
+        arresters_of: list[list[int]] = [[] for _ in self.networks]
+        for j, i in enumerate(arr_net.tolist()):
+            arresters_of[i].append(j)
+        laws = (
+            list(zip(bank.constant.tolist(), bank.exponent.tolist(), strict=True))
+            if bank is not None
+            else []
+        )
         results = []
         for i in range(len(self.networks)):
             n, nodes, pipes = (
@@ -194,14 +209,10 @@ class NetworkStack:
             i_peak = int(np.argmax(valve_p))
             gas: tuple[np.ndarray, ...] = ()
             law: tuple[tuple[float, float], ...] = ()
-            if bank is not None and gas_rec is not None:
-                mine = np.flatnonzero(arr_net == i)
-                gas = tuple(gas_rec[: n + 1, j].copy() for j in mine)
-                law = tuple((float(bank.constant[j]), float(bank.exponent[j])) for j in mine)
-            largest = max(
-                float(cav.at_nodes.largest[nodes].max()),
-                float(cav.in_pipes.largest[sec_off[i] : sec_off[i + 1]].max()),
-            )
+            mine = arresters_of[i]
+            if mine and gas_rec is not None:
+                gas = tuple(np.ascontiguousarray(gas_rec[: n + 1, mine].T))
+                law = tuple(laws[j] for j in mine)
             results.append(
                 TransientResult(
                     t=times,
@@ -218,10 +229,10 @@ class NetworkStack:
                     cavitation=bool(node_events[i] or pipe_events[i]),
                     cavity_events=tuple(node_events[i]),
                     pipe_cavity_events=tuple(pipe_events[i]),
-                    max_cavity_volume=largest,
+                    max_cavity_volume=largest_at[i],
                     dt=float(step[i]),
-                    max_wave_speed_adjustment=float(np.abs(grid.adjustment[pipes]).max()),
-                    reaches=tuple(int(x) for x in grid.reaches[pipes]),
+                    max_wave_speed_adjustment=adjustment[i],
+                    reaches=tuple(reaches[pipe_off[i] : pipe_off[i + 1]]),
                     arrester_gas=gas,
                     arrester_gas_law=law,
                 )
