@@ -119,12 +119,37 @@ def _design_flow(fixture_units: float) -> float:
     return float(demand_flow(fixture_units, False))
 
 
+class FrictionTables:
+    """Darcy factors of every pipe of a layout with the event's flow through it, one table
+    per (service, flow): one vectorised Colebrook solve over all pipes, shared by the
+    events of that flow (a batch of events, or one), instead of a solve per event. The
+    table of a (service, flow) is the same whichever events ask for it."""
+
+    def __init__(self, analysis: Analysis) -> None:
+        self.analysis = analysis
+        self._tables: dict[tuple[str, float], list[float]] = {}
+
+    def factors(self, service: str, flow: float) -> list[float]:
+        """Friction factor of each layout pipe (layout order) at ``flow`` [m³/s]."""
+        key = (service, flow)
+        if key not in self._tables:
+            pipes, water = self.analysis.layout.pipes, self.analysis.water_for(service)
+            inner = np.array([p.inner_diameter for p in pipes])
+            area = np.array([p.area for p in pipes])
+            roughness = np.array([p.material.roughness for p in pipes])
+            re = reynolds_number(flow / area, inner, water.density, water.viscosity)
+            self._tables[key] = np.atleast_1d(friction_factor(re, roughness / inner)).tolist()
+        return self._tables[key]
+
+
 def build_event_network(
     analysis: Analysis,
     event: ValveEvent,
     whole_tree: bool = True,
+    friction: FrictionTables | None = None,
 ) -> EventModel:
-    """The MOC network of the event's service tree (or of its path model)."""
+    """The MOC network of the event's service tree (or of its path model); ``friction``
+    shares friction tables between the events of a batch."""
     layout, network = analysis.layout, analysis.network
     tree = network.trees[event.side]
     root = tree.root_of[event.point]
@@ -155,12 +180,8 @@ def build_event_network(
     on_path = set(event.path)
     pipes, ids = [], []
     tree_pipes = [layout.pipes[tree.parent[node]] for node in nodes[1:]]
-    # every pipe's friction factor in one vectorised Colebrook solve
-    inner = np.array([p.inner_diameter for p in tree_pipes])
-    area = np.array([p.area for p in tree_pipes])
-    roughness = np.array([p.material.roughness for p in tree_pipes])
-    re = reynolds_number(event.flow / area, inner, water.density, water.viscosity)
-    factors = np.atleast_1d(friction_factor(re, roughness / inner)).tolist()
+    table = (friction or FrictionTables(analysis)).factors(event.side, event.flow)
+    factors = [table[tree.parent[node]] for node in nodes[1:]]
     for node, pipe, f in zip(nodes[1:], tree_pipes, factors, strict=True):
         k = tree.parent[node]
         # physical length for the waves; the fittings allowance goes into the friction [D]
@@ -318,11 +339,12 @@ def prepare_event(
     event: ValveEvent,
     duration: float | None = None,
     whole_tree: bool = True,
+    friction: FrictionTables | None = None,
 ) -> EventSetup:
     """The event's network with the time step its path and closure ask for, and a run
     length within the bounds of ``transient_limits`` (RunRefused when the run cannot be
     made within them, or the layout gives the solver no steady state to start from)."""
-    model = build_event_network(analysis, event, whole_tree)
+    model = build_event_network(analysis, event, whole_tree, friction)
     net = model.network
     travel = [p.length / p.wave_speed for p in net.pipes]
     if not all(math.isfinite(t) and t > 0 for t in travel):

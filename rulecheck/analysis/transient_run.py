@@ -28,6 +28,7 @@ from rulecheck.analysis.transient_limits import MAX_TRACE_BYTES, RunRefused, sta
 from rulecheck.analysis.transient_model import (
     EventRun,
     EventSetup,
+    FrictionTables,
     default_duration,
     prepare_event,
     resolution_step,
@@ -91,15 +92,16 @@ def run_batch(analysis: Analysis, batch: list[tuple[int, bool]]) -> list[Transie
     """The outcomes of some of ``analysis``'s events (index, whole tree?), in batch order."""
     outcomes: list[TransientOutcome] = [_refused("not run")] * len(batch)
     setups = []
+    friction = FrictionTables(analysis)
     for j, (i, whole) in enumerate(batch):
         event = analysis.surge.events[i]
         try:
-            setups.append((j, prepare_event(analysis, event, None, whole)))
+            setups.append((j, prepare_event(analysis, event, None, whole, friction)))
         except RunRefused as refusal:
             outcomes[j] = _refused(refusal.reason)
             if whole:  # a pipe off the valve's path may be what passed a bound
                 try:
-                    setups.append((j, prepare_event(analysis, event, None, False)))
+                    setups.append((j, prepare_event(analysis, event, None, False, friction)))
                 except RunRefused as again:
                     outcomes[j] = _refused(again.reason)
     for stack in _stacks(setups):
