@@ -11,6 +11,7 @@ figures stand.
 
 from __future__ import annotations
 
+import gc
 import multiprocessing as mp
 import os
 from collections import Counter
@@ -182,13 +183,17 @@ def simulate_valves(
     workers = min(options.workers or os.cpu_count() or 1, 8, len(batches))
     step_loop()  # the compiled loop built (or found in the cache) once, before workers fork
     if workers > 1 and "fork" in mp.get_all_start_methods():
-        with ProcessPoolExecutor(
-            workers,
-            mp_context=mp.get_context("fork"),
-            initializer=_start_worker,
-            initargs=(analysis,),
-        ) as pool:
-            outcomes = list(pool.map(_run_batch, batches))
+        gc.freeze()  # the collector then leaves the pages the workers share uncopied
+        try:
+            with ProcessPoolExecutor(
+                workers,
+                mp_context=mp.get_context("fork"),
+                initializer=_start_worker,
+                initargs=(analysis,),
+            ) as pool:
+                outcomes = list(pool.map(_run_batch, batches))
+        finally:
+            gc.unfreeze()
     else:
         outcomes = [run_batch(analysis, batch) for batch in batches]
     found = {
