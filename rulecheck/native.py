@@ -15,6 +15,7 @@ compiler runs beside its other work.
 
 from __future__ import annotations
 
+import atexit
 import ctypes
 import hashlib
 import os
@@ -50,11 +51,27 @@ def compiler() -> list[str] | None:
     return None
 
 
+def _private_folder(folder: Path) -> None:
+    """Make ``folder`` (owner-only) or check an existing one: a library is only loaded
+    from a folder that this user owns and nobody else may write to (the spare folder is
+    in the shared temporary directory). Raises OSError otherwise."""
+    folder.mkdir(mode=0o700, parents=True, exist_ok=True)
+    if hasattr(os, "getuid"):
+        st = folder.stat()
+        if st.st_uid != os.getuid() or st.st_mode & 0o022:
+            raise OSError(f"{folder} is not a private folder of this user")
+
+
+def _mine(path: Path) -> bool:
+    """Whether the file at ``path`` belongs to this user (always on Windows)."""
+    return not hasattr(os, "getuid") or path.stat().st_uid == os.getuid()
+
+
 class _Build:
     """A compiler run writing ``temporary``, renamed to ``target`` when it succeeds."""
 
     def __init__(self, command: list[str], source: Path, target: Path) -> None:
-        target.parent.mkdir(parents=True, exist_ok=True)
+        _private_folder(target.parent)
         handle, name = tempfile.mkstemp(dir=target.parent, prefix=".build-", suffix=target.suffix)
         os.close(handle)
         self.target, self.temporary, self.owner = target, Path(name), os.getpid()
@@ -69,6 +86,13 @@ class _Build:
         except OSError:
             self.temporary.unlink(missing_ok=True)
             raise
+
+    def abandon(self) -> None:
+        """Stop the compiler and remove its file (this process ends before it is used)."""
+        if self.process.poll() is None:
+            self.process.kill()
+            self.process.communicate()
+        self.temporary.unlink(missing_ok=True)
 
     def finish(self) -> str | None:
         """Wait for the compiler; the complaint, or None once the library is in place."""
@@ -88,6 +112,13 @@ class _Build:
 
 #: builds started by :func:`start_building` and not yet collected, by source
 _PENDING: dict[Path, _Build] = {}
+
+
+@atexit.register
+def _abandon_pending() -> None:
+    for build in _PENDING.values():
+        if build.owner == os.getpid():
+            build.abandon()
 
 
 def _target(source: Path, command: list[str], folder: Path) -> Path:
@@ -129,10 +160,15 @@ def load_library(source: Path) -> tuple[ctypes.CDLL | None, str | None]:
     for folder in cache_dirs():
         target = _target(source, command, folder)
         try:
-            if not target.exists():
-                complaint = _Build(command, source, target).finish()
-                if complaint is not None:
-                    return None, f"the C kernel did not compile: {complaint}"
+            _private_folder(folder)
+            if target.exists() and _mine(target):
+                try:
+                    return ctypes.CDLL(str(target)), None
+                except OSError:  # torn or foreign: built again below
+                    target.unlink()
+            complaint = _Build(command, source, target).finish()
+            if complaint is not None:
+                return None, f"the C kernel did not compile: {complaint}"
             return ctypes.CDLL(str(target)), None
         except (OSError, subprocess.SubprocessError) as error:
             reason = f"the C kernel could not be built or loaded: {error}"

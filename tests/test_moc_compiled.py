@@ -245,3 +245,43 @@ def test_check_transient_on_a_fresh_cache_builds_and_reports(tmp_path: Path) -> 
     reference = subprocess.run(argv, env=plain, capture_output=True, check=True).stdout
     assert built == reference
     assert len(list((tmp_path / "cache").glob("moc_kernel-*.so"))) == 1
+
+
+@needs_compiler
+def test_a_torn_library_in_the_cache_is_built_again(tmp_path: Path) -> None:
+    env = {**os.environ, "RULECHECK_CACHE_DIR": str(tmp_path / "cache")}
+    env.pop("RULECHECK_KERNEL", None)
+    code = "from rulecheck.physics.transient import step_loop; print(step_loop())"
+    assert _fresh(env, code) == "compiled C"
+    (built,) = (tmp_path / "cache").glob("moc_kernel-*.so")
+    built.write_bytes(built.read_bytes()[:100])  # as a crash or a full disk would leave it
+    assert _fresh(env, code) == "compiled C"
+    assert built.stat().st_size > 1000
+
+
+@needs_compiler
+@pytest.mark.skipif(not hasattr(os, "getuid"), reason="POSIX permissions")
+def test_a_folder_others_may_write_to_is_not_loaded_from(tmp_path: Path) -> None:
+    """A library is code: one in a folder that anybody may write to is never loaded;
+    the spare folder (in the temporary directory, made owner-only) is used instead."""
+    shared = tmp_path / "shared"
+    shared.mkdir()
+    shared.chmod(0o777)
+    spare_root = tmp_path / "tmp"
+    spare_root.mkdir()
+    env = {**os.environ, "RULECHECK_CACHE_DIR": str(shared), "TMPDIR": str(spare_root)}
+    env.pop("RULECHECK_KERNEL", None)
+    code = "from rulecheck.physics.transient import step_loop; print(step_loop())"
+    assert _fresh(env, code) == "compiled C"
+    assert not list(shared.iterdir())
+    (spare,) = spare_root.iterdir()
+    assert list(spare.glob("moc_kernel-*.so")) and spare.stat().st_mode & 0o077 == 0
+
+
+@needs_compiler
+def test_a_build_nobody_collects_is_stopped_and_removed_at_exit(tmp_path: Path) -> None:
+    env = {**os.environ, "RULECHECK_CACHE_DIR": str(tmp_path / "cache")}
+    env.pop("RULECHECK_KERNEL", None)
+    code = "from rulecheck.physics.transient import start_step_loop; start_step_loop()"
+    _fresh(env, code)
+    assert [p.name for p in (tmp_path / "cache").iterdir()] == []
