@@ -47,5 +47,16 @@ def load_yaml(text: str) -> Any:
 
 
 def read_yaml(folder: str, filename: str) -> Any:
-    """One shipped YAML data file as plain Python data."""
-    return load_yaml(read_text(folder, filename))
+    """One shipped YAML data file as plain Python data (a fresh copy on every call), from the
+    per-user cache (:mod:`rulecheck.cache`) when it holds the same file read by the same
+    PyYAML: PyYAML builds the objects in Python even behind the C parser, and the small
+    data files (profiles, arresters, Hunter's table) cost some 10 ms of every start-up."""
+    from rulecheck.cache import cached
+
+    blob = (data_dir(folder) / filename).read_bytes()
+    return cached(
+        f"data-{folder}-{Path(filename).stem}",
+        [blob, f"PyYAML {yaml.__version__} {_SAFE_LOADER.__name__}".encode()],
+        ("rulecheck.resources",),
+        lambda: load_yaml(read_text(folder, filename)),
+    )

@@ -16,6 +16,7 @@ from conftest import REPO
 
 from rulecheck import cache
 from rulecheck.input import catalog, rulebook
+from rulecheck.resources import load_yaml, read_yaml
 
 
 @pytest.fixture
@@ -51,8 +52,8 @@ def _fresh_catalog() -> catalog.Catalog:
 def test_catalog_and_rules_from_the_cache_equal_a_fresh_read(folder: Path) -> None:
     first = catalog.builtin_catalog()
     specs = rulebook.rule_specs()
-    files = sorted(p.name.split("-")[0] for p in folder.glob("*.pickle"))
-    assert files == ["catalog", "rules"]
+    assert len(list(folder.glob("catalog-*.pickle"))) == 1
+    assert len(list(folder.glob("rule-specs-*.pickle"))) == 1
     catalog.builtin_catalog.cache_clear()
     rulebook.rule_specs.cache_clear()
     again = catalog.builtin_catalog()
@@ -105,6 +106,16 @@ def test_changed_catalog_file_is_read_again(
     first = next(iter(catalog.builtin_catalog().materials.values()))
     assert first.name == "Renamed for the test"
     assert len(list(folder.glob("catalog-*.pickle"))) == 2
+
+
+def test_shipped_yaml_from_the_cache_is_a_fresh_equal_copy(folder: Path) -> None:
+    fresh = load_yaml((REPO / "rules" / "profiles.yaml").read_text(encoding="utf-8"))
+    first = read_yaml("rules", "profiles.yaml")
+    assert len(list(folder.glob("data-rules-profiles-*.pickle"))) == 1
+    again = read_yaml("rules", "profiles.yaml")  # from the file
+    assert first == again == fresh
+    again["default"] = "changed by a caller"
+    assert read_yaml("rules", "profiles.yaml") == fresh
 
 
 def test_corrupt_file_is_ignored_and_rebuilt(folder: Path) -> None:

@@ -21,6 +21,7 @@ from rulecheck.resources import data_dir
 
 MATERIALS_FILE = "materials.yaml"
 FIXTURE_TYPES_FILE = "fixture-types.yaml"
+CATALOG_FILES = (MATERIALS_FILE, FIXTURE_TYPES_FILE)
 
 
 @dataclass(frozen=True)
@@ -289,12 +290,14 @@ def builtin_catalog() -> Catalog:
     """The catalog shipped in ``rules/``, from the per-user cache (:mod:`rulecheck.cache`)
     when it holds one built from the same files by the same code."""
     folder = data_dir("rules")
-    blobs = [(folder / name).read_bytes() for name in (MATERIALS_FILE, FIXTURE_TYPES_FILE)]
+    blobs = [(folder / name).read_bytes() for name in CATALOG_FILES]
     return cached(
         "catalog",
         blobs,
         CATALOG_CODE,
-        lambda: read_builtin_catalog(*(b.decode("utf-8") for b in blobs)),
+        lambda: read_builtin_catalog(
+            *((folder / name).read_text(encoding="utf-8") for name in CATALOG_FILES)
+        ),
     )
 
 

@@ -49,12 +49,12 @@ def rule_specs() -> dict[str, RuleSpec]:
     """All rule data, by id, in file order; from the per-user cache (:mod:`rulecheck.cache`)
     when it holds one built from the same files by the same code."""
     folder = data_dir("rules")
-    blobs = [(folder / name).read_bytes() for name in RULE_FILES if (folder / name).is_file()]
+    entries = [folder / name for name in RULE_FILES if (folder / name).is_file()]
     return cached(
-        "rules",
-        blobs,
+        "rule-specs",
+        [entry.read_bytes() for entry in entries],
         ("rulecheck.input.rulebook", "rulecheck.findings"),
-        lambda: read_rule_specs([b.decode("utf-8") for b in blobs]),
+        lambda: read_rule_specs([entry.read_text(encoding="utf-8") for entry in entries]),
     )
 
 
