@@ -21,7 +21,6 @@ import importlib
 import os
 import pickle
 import sys
-import tempfile
 from collections.abc import Callable, Iterable
 from pathlib import Path
 from typing import Any, TypeVar
@@ -34,13 +33,19 @@ T = TypeVar("T")
 FORMAT = b"rulecheck-data-cache 1"
 
 
-def cache_dirs() -> list[Path]:
-    """Where cached files are kept, first choice first."""
+def user_cache_dir() -> Path:
+    """The first choice of :func:`cache_dirs` (found without importing :mod:`tempfile`)."""
     given = os.environ.get("RULECHECK_CACHE_DIR")
     base = os.environ.get("XDG_CACHE_HOME") or str(Path.home() / ".cache")
+    return Path(given) if given else Path(base) / "rulecheck"
+
+
+def cache_dirs() -> list[Path]:
+    """Where cached files are kept, first choice first."""
+    import tempfile
+
     user = getattr(os, "getuid", lambda: "user")()
-    spare = Path(tempfile.gettempdir()) / f"rulecheck-{user}"
-    return [Path(given) if given else Path(base) / "rulecheck", spare]
+    return [user_cache_dir(), Path(tempfile.gettempdir()) / f"rulecheck-{user}"]
 
 
 def cache_key(name: str, sources: Iterable[bytes], modules: Iterable[str]) -> str:
@@ -63,8 +68,11 @@ def cached(
     """``build()``, from the cache when a file of the same key is there and reads back,
     else built now and stored (where a cache folder can be written)."""
     filename = f"{name}-{cache_key(name, sources, modules)}.pickle"
+    found = _read(user_cache_dir() / filename)  # the usual case, without the spare folder
+    if found is not None:
+        return found[0]  # type: ignore[no-any-return]
     folders = cache_dirs()
-    for folder in folders:
+    for folder in folders[1:] if folders[0] == user_cache_dir() else folders:
         found = _read(folder / filename)
         if found is not None:
             return found[0]  # type: ignore[no-any-return]
@@ -94,6 +102,8 @@ def _read(path: Path) -> tuple[Any] | None:
 
 def _write(path: Path, value: object) -> bool:
     """Store ``value`` at ``path`` (renamed into place); False when it cannot be written."""
+    import tempfile
+
     try:
         path.parent.mkdir(parents=True, exist_ok=True)
         handle, temporary = tempfile.mkstemp(dir=path.parent, prefix=".data-", suffix=".tmp")

@@ -16,7 +16,6 @@ import argparse
 import importlib
 import os
 import sys
-import traceback
 from collections.abc import Callable
 from typing import TYPE_CHECKING, NamedTuple, cast
 
@@ -147,6 +146,8 @@ def main(argv: list[str] | None = None) -> int:
     except Exception as exc:  # a bug: say so plainly, never as a finding or an input error
         print(internal_error_message(exc, argv), file=sys.stderr)
         if DEBUG_OPTION in argv:
+            import traceback
+
             traceback.print_exception(exc, file=sys.stderr)
         return EXIT_INTERNAL
 
