@@ -20,6 +20,8 @@ if TYPE_CHECKING:
 # libyaml's loader where PyYAML has it: the same data as yaml.safe_load, some 10x faster
 # on the shipped rule files (part of every run's start-up).
 _SAFE_LOADER: Any = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+#: what reads the shipped YAML, for the keys of cached data built from it
+YAML_TAG = f"PyYAML {yaml.__version__} {_SAFE_LOADER.__name__}".encode()
 
 
 def data_dir(name: str) -> Traversable:
@@ -56,7 +58,7 @@ def read_yaml(folder: str, filename: str) -> Any:
     blob = (data_dir(folder) / filename).read_bytes()
     return cached(
         f"data-{folder}-{Path(filename).stem}",
-        [blob, f"PyYAML {yaml.__version__} {_SAFE_LOADER.__name__}".encode()],
+        [blob, YAML_TAG],
         ("rulecheck.resources",),
         lambda: load_yaml(read_text(folder, filename)),
     )

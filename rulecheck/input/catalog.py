@@ -17,7 +17,7 @@ from rulecheck.errors import InputError, ProblemCollector
 from rulecheck.input.loader import Document, JsonPath, parse_text
 from rulecheck.input.model import FixtureType, Material, ProfileFixture, Wsfu
 from rulecheck.input.reader import Reader
-from rulecheck.resources import data_dir
+from rulecheck.resources import YAML_TAG, data_dir
 
 MATERIALS_FILE = "materials.yaml"
 FIXTURE_TYPES_FILE = "fixture-types.yaml"
@@ -293,7 +293,7 @@ def builtin_catalog() -> Catalog:
     blobs = [(folder / name).read_bytes() for name in CATALOG_FILES]
     return cached(
         "catalog",
-        blobs,
+        [*blobs, YAML_TAG],
         CATALOG_CODE,
         lambda: read_builtin_catalog(
             *((folder / name).read_text(encoding="utf-8") for name in CATALOG_FILES)

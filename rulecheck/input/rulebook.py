@@ -12,7 +12,7 @@ from typing import Any
 
 from rulecheck.cache import cached
 from rulecheck.findings import SEVERITIES
-from rulecheck.resources import data_dir, load_yaml
+from rulecheck.resources import YAML_TAG, data_dir, load_yaml
 from rulecheck.units import to_si
 
 RULE_FILES = ("hydraulic-rules.yaml", "surge-rules.yaml", "housekeeping-rules.yaml")
@@ -52,7 +52,7 @@ def rule_specs() -> dict[str, RuleSpec]:
     entries = [folder / name for name in RULE_FILES if (folder / name).is_file()]
     return cached(
         "rule-specs",
-        [entry.read_bytes() for entry in entries],
+        [*(entry.read_bytes() for entry in entries), YAML_TAG],
         ("rulecheck.input.rulebook", "rulecheck.findings"),
         lambda: read_rule_specs([entry.read_text(encoding="utf-8") for entry in entries]),
     )
