@@ -21,7 +21,7 @@ import importlib
 import os
 import pickle
 import sys
-from collections.abc import Callable, Iterable
+from collections.abc import Callable, Iterable, Iterator
 from pathlib import Path
 from typing import Any, TypeVar
 
@@ -40,12 +40,23 @@ def user_cache_dir() -> Path:
     return Path(given) if given else Path(base) / "rulecheck"
 
 
-def cache_dirs() -> list[Path]:
-    """Where cached files are kept, first choice first."""
+def spare_cache_dir() -> Path:
+    """The second choice: a folder of the user's own in the temporary directory."""
     import tempfile
 
     user = getattr(os, "getuid", lambda: "user")()
-    return [user_cache_dir(), Path(tempfile.gettempdir()) / f"rulecheck-{user}"]
+    return Path(tempfile.gettempdir()) / f"rulecheck-{user}"
+
+
+def cache_dirs() -> list[Path]:
+    """Where cached files are kept, first choice first."""
+    return list(_folders())
+
+
+def _folders() -> Iterator[Path]:
+    """:func:`cache_dirs` one by one: the spare is only looked up when it is needed."""
+    yield user_cache_dir()
+    yield spare_cache_dir()
 
 
 def cache_key(name: str, sources: Iterable[bytes], modules: Iterable[str]) -> str:
@@ -68,16 +79,12 @@ def cached(
     """``build()``, from the cache when a file of the same key is there and reads back,
     else built now and stored (where a cache folder can be written)."""
     filename = f"{name}-{cache_key(name, sources, modules)}.pickle"
-    found = _read(user_cache_dir() / filename)  # the usual case, without the spare folder
-    if found is not None:
-        return found[0]  # type: ignore[no-any-return]
-    folders = cache_dirs()
-    for folder in folders[1:] if folders[0] == user_cache_dir() else folders:
+    for folder in _folders():
         found = _read(folder / filename)
         if found is not None:
             return found[0]  # type: ignore[no-any-return]
     value = build()
-    for folder in folders:
+    for folder in _folders():
         if _write(folder / filename, value):
             break
     return value

@@ -23,12 +23,17 @@ from rulecheck.resources import load_yaml, read_yaml
 def folder(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> Path:
     """A cache folder of the test's own, and the memoised built-ins forgotten around it."""
     where = tmp_path / "cache"
-    monkeypatch.setattr(cache, "cache_dirs", lambda: [where])
+    _use(monkeypatch, where, where / "spare")
     catalog.builtin_catalog.cache_clear()
     rulebook.rule_specs.cache_clear()
     yield where
     catalog.builtin_catalog.cache_clear()
     rulebook.rule_specs.cache_clear()
+
+
+def _use(monkeypatch: pytest.MonkeyPatch, first: Path, spare: Path) -> None:
+    monkeypatch.setattr(cache, "user_cache_dir", lambda: first)
+    monkeypatch.setattr(cache, "spare_cache_dir", lambda: spare)
 
 
 def _counting(value: object) -> tuple[list[int], object]:
@@ -138,7 +143,7 @@ def test_truncated_file_is_ignored(folder: Path) -> None:
 def test_unwritable_folder_falls_back(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
     blocker = tmp_path / "a-file"
     blocker.write_text("not a folder", encoding="utf-8")
-    monkeypatch.setattr(cache, "cache_dirs", lambda: [blocker / "cache", blocker / "spare"])
+    _use(monkeypatch, blocker / "cache", blocker / "spare")
     calls, build = _counting("built")
     assert cache.cached("t", [b"x"], ["rulecheck.cache"], build) == "built"
     assert cache.cached("t", [b"x"], ["rulecheck.cache"], build) == "built"
@@ -157,7 +162,7 @@ def test_second_folder_when_the_first_cannot_be_written(
     blocker = tmp_path / "a-file"
     blocker.write_text("", encoding="utf-8")
     spare = tmp_path / "spare"
-    monkeypatch.setattr(cache, "cache_dirs", lambda: [blocker / "cache", spare])
+    _use(monkeypatch, blocker / "cache", spare)
     calls, build = _counting(3)
     cache.cached("t", [b"x"], ["rulecheck.cache"], build)
     assert cache.cached("t", [b"x"], ["rulecheck.cache"], build) == 3
@@ -182,3 +187,4 @@ def test_cache_dirs_order(monkeypatch: pytest.MonkeyPatch, tmp_path: Path) -> No
     monkeypatch.delenv("RULECHECK_CACHE_DIR")
     monkeypatch.setenv("XDG_CACHE_HOME", str(tmp_path / "xdg"))
     assert cache.cache_dirs()[0] == tmp_path / "xdg" / "rulecheck"
+    assert cache.cache_dirs()[1].name.startswith("rulecheck-")
