@@ -24,7 +24,6 @@ from __future__ import annotations
 
 import os
 import stat
-import tempfile
 from collections.abc import Iterator
 from contextlib import contextmanager
 from pathlib import Path
@@ -187,6 +186,8 @@ def atomic_output(target: str | Path) -> Iterator[TextIO]:
             yield handle
         return
     try:
+        import tempfile  # only when an output is written
+
         fd, temp = tempfile.mkstemp(dir=real.parent, prefix=f".{real.name}.", suffix=".part")
     except OSError as exc:
         where = f"in the folder {real.parent}"

@@ -2,9 +2,9 @@
 
 Nothing is compiled at install time, so installing needs no compiler. The first run on
 a machine compiles the source with the system C compiler (``CC``, else the compiler
-Python was built with, else ``cc``) into a per-user cache (``RULECHECK_CACHE_DIR``,
-else ``$XDG_CACHE_HOME/rulecheck``, else ``~/.cache/rulecheck``; a folder in the
-temporary directory when that one cannot be written), under a name keyed by the
+Python was built with, else ``cc``) into the per-user cache (``rulecheck.cache.cache_dirs``:
+``RULECHECK_CACHE_DIR``, else ``$XDG_CACHE_HOME/rulecheck``, else ``~/.cache/rulecheck``;
+a folder in the temporary directory when that one cannot be written), under a name keyed by the
 source, the compiler command and the platform; later runs load the cached file. A
 build goes to a temporary file that is renamed into place, so two processes building
 at once cannot leave a torn file. When there is no compiler or the build fails, the
@@ -28,18 +28,11 @@ import sysconfig
 import tempfile
 from pathlib import Path
 
+from rulecheck.cache import cache_dirs
+
 #: Standard C, position-independent, and no floating-point licence (no fused multiply-add,
 #: no fast-math), so the compiled loop does the arithmetic the source spells out.
 FLAGS = ("-O3", "-std=c99", "-fPIC", "-shared", "-ffp-contract=off", "-fno-fast-math")
-
-
-def cache_dirs() -> list[Path]:
-    """Where built libraries are kept, first choice first."""
-    given = os.environ.get("RULECHECK_CACHE_DIR")
-    base = os.environ.get("XDG_CACHE_HOME") or str(Path.home() / ".cache")
-    user = getattr(os, "getuid", lambda: "user")()
-    spare = Path(tempfile.gettempdir()) / f"rulecheck-{user}"
-    return [Path(given) if given else Path(base) / "rulecheck", spare]
 
 
 def compiler() -> list[str] | None:

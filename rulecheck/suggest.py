@@ -19,7 +19,6 @@ Ranking, best first:
 
 from __future__ import annotations
 
-import difflib
 import re
 from collections.abc import Iterable, Mapping
 
@@ -64,6 +63,8 @@ def closest(
     word: str, choices: Iterable[str], titles: Mapping[str, str] | None = None
 ) -> list[str]:
     """The known names that match ``word``, best first (see the module docstring)."""
+    import difflib  # only when a name is wrong
+
     names = sorted(set(choices))
     folded = {name: _fold(name) for name in names}
     target = _fold(word)

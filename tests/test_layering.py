@@ -31,6 +31,7 @@ LAYERS: list[tuple[str, tuple[str, ...]]] = [
             "rulecheck.textscan",
             "rulecheck.resources",
             "rulecheck.native",
+            "rulecheck.cache",
         ),
     ),
     ("physics", ("rulecheck.physics",)),

@@ -1,7 +1,10 @@
 """Command line: ``rulecheck check | analyze | simulate | rules | explain | schema``.
 
-One module per command (``check``, ``analyze``, ``simulate``, ``explain``, ``info``), each
-with ``add_parser(sub)`` and ``run(args, console) -> int``, listed in :data:`COMMANDS`.
+One module per command (``check``, ``analyze``, ``simulate``, ``size``, ``explain``,
+``info``, ``catalog``), each with ``add_parser(sub)`` and ``run(args, console) -> int``,
+listed in :data:`COMMANDS`. A command's module is imported only when that command runs:
+the parser gets the chosen command's full sub-parser and, for the others, a bare one with
+the same one-line help (all that ``rulecheck --help`` and a wrong command name show).
 ``main(argv) -> int`` never raises: input errors print ``file:line:col: error: …`` and
 return :data:`~rulecheck.errors.EXIT_INPUT`; a bug returns
 :data:`~rulecheck.errors.EXIT_INTERNAL` with a one-paragraph message.
@@ -10,14 +13,13 @@ return :data:`~rulecheck.errors.EXIT_INPUT`; a bug returns
 from __future__ import annotations
 
 import argparse
+import importlib
 import os
 import sys
-import traceback
 from collections.abc import Callable
-from typing import TYPE_CHECKING, cast
+from typing import TYPE_CHECKING, NamedTuple, cast
 
 from rulecheck import __version__
-from rulecheck.cli import analyze, catalog, check, explain, info, simulate, size
 from rulecheck.cli.common import (
     DEBUG_OPTION,
     LazyConsole,
@@ -41,20 +43,68 @@ if TYPE_CHECKING:
 
 Run = Callable[[argparse.Namespace, "Console"], int]
 
-#: command name -> (adds its arguments, runs it), in the order ``--help`` lists them
-COMMANDS: dict[str, tuple[Callable[[argparse._SubParsersAction], None], Run]] = {
-    "check": (check.add_parser, check.run),
-    "analyze": (analyze.add_parser, analyze.run),
-    "simulate": (simulate.add_parser, simulate.run),
-    "size": (size.add_parser, size.run),
-    "rules": (info.add_rules_parser, info.run_rules),
-    "explain": (explain.add_parser, explain.run),
-    "schema": (info.add_schema_parser, info.run_schema),
-    "catalog": (catalog.add_parser, catalog.run),
+
+class Command(NamedTuple):
+    """Where a command lives: ``rulecheck.cli.<module>``, the names of its add-parser and
+    run functions there, and its one-line help (the same text its add-parser gives; a
+    test holds the two equal)."""
+
+    module: str
+    add: str
+    run: str
+    help: str
+
+
+#: command name -> where it lives, in the order ``--help`` lists them
+COMMANDS: dict[str, Command] = {
+    "check": Command("check", "add_parser", "run", "check layouts against the design rules"),
+    "analyze": Command("analyze", "add_parser", "run", "print flows, velocities and pressures"),
+    "simulate": Command(
+        "simulate", "add_parser", "run", "transient simulation of one valve closing"
+    ),
+    "size": Command(
+        "size",
+        "add_parser",
+        "run",
+        "size the pipes (least material) and add the arresters a layout needs",
+    ),
+    "rules": Command("info", "add_rules_parser", "run_rules", "list the rules"),
+    "explain": Command(
+        "explain", "add_parser", "run", "why a rule exists, its formula, limits and source"
+    ),
+    "schema": Command(
+        "info",
+        "add_schema_parser",
+        "run_schema",
+        "print the path of the installed layout JSON Schema",
+    ),
+    "catalog": Command(
+        "catalog",
+        "add_parser",
+        "run",
+        "list the materials, a material's sizes, or the fixture types",
+    ),
 }
 
 
-def build_parser() -> argparse.ArgumentParser:
+def command_function(name: str, which: str) -> Callable[..., object]:
+    """The add-parser (``which="add"``) or run function of command ``name``, its module
+    imported now."""
+    command = COMMANDS[name]
+    module = importlib.import_module(f"rulecheck.cli.{command.module}")
+    return cast("Callable[..., object]", getattr(module, getattr(command, which)))
+
+
+def chosen_command(argv: list[str]) -> str | None:
+    """The command ``argv`` names (the first word that is not an option: the top-level
+    options take no value), or None."""
+    word = next((a for a in argv if not a.startswith("-")), None)
+    return word if word in COMMANDS else None
+
+
+def build_parser(only: str | None = None, *, every: bool = True) -> argparse.ArgumentParser:
+    """The command-line parser: every command's options (``every``), or only those of the
+    command ``only`` (the others bare, with their help line)."""
     parser = Parser(
         prog="rulecheck",
         description="Design-rule checks for building water-supply layouts (YAML).",
@@ -67,8 +117,11 @@ def build_parser() -> argparse.ArgumentParser:
         help="on an internal error (a bug), print the Python traceback too",
     )
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=Parser)
-    for add, _ in COMMANDS.values():
-        add(sub)
+    for name, command in COMMANDS.items():
+        if every or name == only:
+            command_function(name, "add")(sub)
+        else:
+            sub.add_parser(name, help=command.help)
     return parser
 
 
@@ -93,6 +146,8 @@ def main(argv: list[str] | None = None) -> int:
     except Exception as exc:  # a bug: say so plainly, never as a finding or an input error
         print(internal_error_message(exc, argv), file=sys.stderr)
         if DEBUG_OPTION in argv:
+            import traceback
+
             traceback.print_exception(exc, file=sys.stderr)
         return EXIT_INTERNAL
 
@@ -118,11 +173,12 @@ def _run(argv: list[str]) -> int:
         LazyConsole(highlight=False, color_system=None if os.environ.get("NO_COLOR") else "auto"),
     )
     try:
-        args = build_parser().parse_args(argv)
+        only = chosen_command(argv)
+        args = build_parser(only, every=False).parse_args(argv)
         if args.command is None:
-            build_parser().print_help()
+            build_parser(every=False).print_help()
             return EXIT_INPUT
-        add, run = COMMANDS[args.command]
+        run = cast("Run", command_function(args.command, "run"))
         return run(args, console)
     except UsageError as exc:
         print(f"{visible(str(exc))}\nTry 'rulecheck --help'.", file=sys.stderr)

@@ -16,6 +16,7 @@ import os
 import re
 import stat
 from collections.abc import Iterable
+from functools import cache
 from pathlib import Path
 
 from rulecheck.files import file_identity, read_ends, special_kind
@@ -23,24 +24,31 @@ from rulecheck.files import file_identity, read_ends, special_kind
 LAYOUT_SUFFIXES = (".yaml", ".yml")
 REPLACE_OPTION = "--replace-any"
 
-# What the first (or last) bytes of each of our outputs look like; see report/*.py.
-_OURS_HEAD = (
-    re.compile(rb'\A\s*\{\s*"version":\s*1,\s*"files":'),  # --format json
-    re.compile(rb'\A\s*\{\s*"version":\s*1,\s*"tool":\s*"rulecheck"'),  # baseline
-    re.compile(  # --format sarif: the driver's name comes within the first lines
-        rb'\A\s*\{\s*"\$schema":\s*"[^"]*sarif[^"]*",\s*"version":\s*"2\.1\.0".*?'
-        rb'"driver":\s*\{\s*"name":\s*"rulecheck"',
-        re.DOTALL,
-    ),
-    re.compile(
-        rb'\A<!DOCTYPE html>\s*<html lang="en">\s*<head>\s*<meta charset="utf-8">\s*'
-        rb'<meta name="generator" content="rulecheck '
-    ),  # --format html
-)
-# text and lines: the summary and the caution end the report (wrapped to the width)
-_OURS_TAIL = re.compile(
-    rb"\d+ files? checked: [^\n]*(?:\n[^\n]*){0,4}\nCaution: [^\n]*(?:\n[^\n]*){0,24}\n?\Z"
-)
+
+@cache
+def _ours() -> tuple[tuple[re.Pattern[bytes], ...], re.Pattern[bytes]]:
+    """What the first bytes of each of our outputs look like, and (text and lines: the
+    summary and the caution end the report, wrapped to the width) the last; see
+    report/*.py. Compiled on first use: most runs write no output file."""
+    heads = (
+        re.compile(rb'\A\s*\{\s*"version":\s*1,\s*"files":'),  # --format json
+        re.compile(rb'\A\s*\{\s*"version":\s*1,\s*"tool":\s*"rulecheck"'),  # baseline
+        re.compile(  # --format sarif: the driver's name comes within the first lines
+            rb'\A\s*\{\s*"\$schema":\s*"[^"]*sarif[^"]*",\s*"version":\s*"2\.1\.0".*?'
+            rb'"driver":\s*\{\s*"name":\s*"rulecheck"',
+            re.DOTALL,
+        ),
+        re.compile(
+            rb'\A<!DOCTYPE html>\s*<html lang="en">\s*<head>\s*<meta charset="utf-8">\s*'
+            rb'<meta name="generator" content="rulecheck '
+        ),  # --format html
+    )
+    tail = re.compile(
+        rb"\d+ files? checked: [^\n]*(?:\n[^\n]*){0,4}\nCaution: [^\n]*(?:\n[^\n]*){0,24}\n?\Z"
+    )
+    return heads, tail
+
+
 _SNIFF = 4096
 
 
@@ -64,7 +72,8 @@ def looks_like_ours(path: str | Path) -> bool:
         return False
     if not head.strip():
         return True
-    return any(p.match(head) for p in _OURS_HEAD) or _OURS_TAIL.search(tail) is not None
+    heads, ends = _ours()
+    return any(p.match(head) for p in heads) or ends.search(tail) is not None
 
 
 def guard_outputs(

@@ -21,7 +21,6 @@ so :func:`key_positions` finds them by scanning the text).
 from __future__ import annotations
 
 import re
-import tomllib
 from dataclasses import dataclass, field, replace
 from fnmatch import fnmatchcase
 from pathlib import Path, PurePosixPath
@@ -133,6 +132,8 @@ def parse_config(text: str, path: Path, name: str | None = None) -> Config:
 
     ``name`` is how messages call the file (default: ``path`` as given).
     """
+    import tomllib  # only when there is a file to read (some 8 ms of start-up)
+
     name = name or str(path)
     try:
         data = tomllib.loads(text)

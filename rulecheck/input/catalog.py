@@ -12,14 +12,16 @@ from dataclasses import dataclass
 from functools import cache
 from typing import Any, TypeVar
 
+from rulecheck.cache import cached
 from rulecheck.errors import InputError, ProblemCollector
 from rulecheck.input.loader import Document, JsonPath, parse_text
 from rulecheck.input.model import FixtureType, Material, ProfileFixture, Wsfu
 from rulecheck.input.reader import Reader
-from rulecheck.resources import read_text
+from rulecheck.resources import YAML_TAG, data_dir
 
 MATERIALS_FILE = "materials.yaml"
 FIXTURE_TYPES_FILE = "fixture-types.yaml"
+CATALOG_FILES = (MATERIALS_FILE, FIXTURE_TYPES_FILE)
 
 
 @dataclass(frozen=True)
@@ -249,15 +251,30 @@ def _read_entries(
     return found
 
 
-def _builtin_file(filename: str) -> Reader:
-    doc = parse_text(read_text("rules", filename), f"rules/{filename}")
+#: the modules whose code decides what the built-in catalog holds (a change to any of them
+#: makes a new cache file)
+CATALOG_CODE = (
+    "rulecheck.input.catalog",
+    "rulecheck.input.model",
+    "rulecheck.input.reader",
+    "rulecheck.input.loader",
+    "rulecheck.input.plausible",
+    "rulecheck.units",
+    "rulecheck.unit_table",
+    "rulecheck.errors",
+)
+
+
+def _builtin_file(filename: str, text: str) -> Reader:
+    doc = parse_text(text, f"rules/{filename}")
     return Reader(doc, "si", ProblemCollector(doc.path))
 
 
-@cache
-def builtin_catalog() -> Catalog:
-    """The catalog shipped in ``rules/`` (a defect in it is a packaging error, not user input)."""
-    materials_file, types_file = _builtin_file(MATERIALS_FILE), _builtin_file(FIXTURE_TYPES_FILE)
+def read_builtin_catalog(materials_text: str, types_text: str) -> Catalog:
+    """The catalog the shipped files' texts give (a defect in them is a packaging error,
+    not user input)."""
+    materials_file = _builtin_file(MATERIALS_FILE, materials_text)
+    types_file = _builtin_file(FIXTURE_TYPES_FILE, types_text)
     materials = _read_entries(materials_file, "materials", read_material)
     fixture_types = _read_entries(types_file, "fixture_types", read_fixture_type)
     for reader in (materials_file, types_file):
@@ -266,6 +283,22 @@ def builtin_catalog() -> Catalog:
         except InputError as exc:
             raise RuntimeError(f"built-in catalog is broken: {exc}") from None
     return Catalog(materials, fixture_types)
+
+
+@cache
+def builtin_catalog() -> Catalog:
+    """The catalog shipped in ``rules/``, from the per-user cache (:mod:`rulecheck.cache`)
+    when it holds one built from the same files by the same code."""
+    folder = data_dir("rules")
+    blobs = [(folder / name).read_bytes() for name in CATALOG_FILES]
+    return cached(
+        "catalog",
+        [*blobs, YAML_TAG],
+        CATALOG_CODE,
+        lambda: read_builtin_catalog(
+            *((folder / name).read_text(encoding="utf-8") for name in CATALOG_FILES)
+        ),
+    )
 
 
 def project_catalog(doc: Document, system: str, problems: ProblemCollector) -> Catalog:

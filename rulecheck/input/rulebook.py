@@ -10,8 +10,9 @@ from dataclasses import dataclass, field
 from functools import cache
 from typing import Any
 
+from rulecheck.cache import cached
 from rulecheck.findings import SEVERITIES
-from rulecheck.resources import data_dir, load_yaml
+from rulecheck.resources import YAML_TAG, data_dir, load_yaml
 from rulecheck.units import to_si
 
 RULE_FILES = ("hydraulic-rules.yaml", "surge-rules.yaml", "housekeeping-rules.yaml")
@@ -45,14 +46,23 @@ class RuleSpec:
 
 @cache
 def rule_specs() -> dict[str, RuleSpec]:
-    """All rule data, by id, in file order."""
-    specs: dict[str, RuleSpec] = {}
+    """All rule data, by id, in file order; from the per-user cache (:mod:`rulecheck.cache`)
+    when it holds one built from the same files by the same code."""
     folder = data_dir("rules")
-    for filename in RULE_FILES:
-        entry = folder / filename
-        if not entry.is_file():
-            continue
-        for raw in load_yaml(entry.read_text(encoding="utf-8"))["rules"]:
+    entries = [folder / name for name in RULE_FILES if (folder / name).is_file()]
+    return cached(
+        "rule-specs",
+        [*(entry.read_bytes() for entry in entries), YAML_TAG],
+        ("rulecheck.input.rulebook", "rulecheck.findings"),
+        lambda: read_rule_specs([entry.read_text(encoding="utf-8") for entry in entries]),
+    )
+
+
+def read_rule_specs(texts: list[str]) -> dict[str, RuleSpec]:
+    """The rule data the texts of the rule files give, by id, in file order."""
+    specs: dict[str, RuleSpec] = {}
+    for text in texts:
+        for raw in load_yaml(text)["rules"]:
             if raw["severity"] not in SEVERITIES:
                 raise RuntimeError(f"rule {raw['id']}: unknown severity {raw['severity']!r}")
             specs[raw["id"]] = RuleSpec(
