@@ -115,6 +115,10 @@ def reaches(finding: Finding, fail_on: str) -> bool:
 
 
 def run(args: argparse.Namespace, console: Console) -> int:
+    if args.transient:  # a first run's compiler works while the rest loads and reads
+        from rulecheck.physics.transient import start_step_loop
+
+        start_step_loop()
     from rulecheck.analysis import AnalysisOptions
     from rulecheck.engine import baseline
     from rulecheck.folder import check_files

@@ -109,7 +109,7 @@ def _path_sums(values: np.ndarray, starts: np.ndarray) -> np.ndarray:
     paths of each length form the rows of one C-ordered matrix, summed along the rows."""
     sizes = np.diff(np.append(starts, values.size))
     sums = np.empty(starts.size)
-    for size in np.unique(sizes).tolist():
+    for size in sorted(set(sizes.tolist())):  # np.unique would import numpy.ma (~20 ms)
         rows = np.flatnonzero(sizes == size)
         sums[rows] = values[starts[rows, None] + np.arange(size)].sum(axis=1)
     return sums
