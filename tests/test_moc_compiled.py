@@ -155,6 +155,17 @@ def test_numpy_loop_runs_where_no_kernel_can_be_built(numpy_loop: None) -> None:
     assert result.peak_pressure > result.node_initial_pressure[2]
 
 
+#: a fresh process's answer to which step loop runs
+STEP_LOOP = "from rulecheck.physics.transient import step_loop; print(step_loop())"
+
+
+def _kernel_env(cache: Path) -> dict[str, str]:
+    """This environment with the compiled loop allowed and its cache in ``cache``."""
+    env = {**os.environ, "RULECHECK_CACHE_DIR": str(cache)}
+    env.pop("RULECHECK_KERNEL", None)
+    return env
+
+
 def _fresh(env: dict[str, str], code: str) -> str:
     done = subprocess.run(
         [sys.executable, "-c", code], env=env, capture_output=True, text=True, check=True
@@ -165,22 +176,20 @@ def _fresh(env: dict[str, str], code: str) -> str:
 def test_no_compiler_falls_back_with_its_reason(tmp_path: Path) -> None:
     env = {**os.environ, "CC": str(tmp_path / "no-such-cc"), "RULECHECK_CACHE_DIR": str(tmp_path)}
     env["PATH"] = str(tmp_path)  # neither sysconfig's compiler nor cc on the path
-    code = "from rulecheck.physics.transient import step_loop; print(step_loop())"
+    code = STEP_LOOP
     assert _fresh(env, code) == "numpy (no C compiler found (set CC to use one))"
     assert not list(tmp_path.glob("moc_kernel-*"))
 
 
 def test_environment_switch_selects_the_numpy_loop(tmp_path: Path) -> None:
     env = {**os.environ, "RULECHECK_KERNEL": "numpy", "RULECHECK_CACHE_DIR": str(tmp_path)}
-    code = "from rulecheck.physics.transient import step_loop; print(step_loop())"
+    code = STEP_LOOP
     assert _fresh(env, code) == "numpy (RULECHECK_KERNEL=numpy)"
 
 
 @needs_compiler
 def test_kernel_is_built_once_into_the_cache_and_reused(tmp_path: Path) -> None:
-    env = {**os.environ, "RULECHECK_CACHE_DIR": str(tmp_path / "cache")}
-    env.pop("RULECHECK_KERNEL", None)
-    code = "from rulecheck.physics.transient import step_loop; print(step_loop())"
+    env, code = _kernel_env(tmp_path / "cache"), STEP_LOOP
     assert _fresh(env, code) == "compiled C"
     built = list((tmp_path / "cache").glob("moc_kernel-*.so"))
     assert len(built) == 1
@@ -196,7 +205,7 @@ def test_a_compiler_that_fails_leaves_the_numpy_loop_and_no_file(tmp_path: Path)
     failing.write_text("#!/bin/sh\necho 'cc: cannot compile today' >&2\nexit 1\n")
     failing.chmod(0o755)
     env = {**os.environ, "CC": str(failing), "RULECHECK_CACHE_DIR": str(tmp_path / "cache")}
-    code = "from rulecheck.physics.transient import step_loop; print(step_loop())"
+    code = STEP_LOOP
     assert _fresh(env, code) == "numpy (the C kernel did not compile: cc: cannot compile today)"
     assert not list((tmp_path / "cache").glob("*"))
 
@@ -217,8 +226,7 @@ def test_a_build_started_early_is_collected_once(tmp_path: Path) -> None:
     """``start_step_loop`` starts the compiler in the background; the first ``step_loop``
     waits for that build instead of starting another, and leaves one library, no
     temporary files."""
-    env = {**os.environ, "RULECHECK_CACHE_DIR": str(tmp_path / "cache")}
-    env.pop("RULECHECK_KERNEL", None)
+    env = _kernel_env(tmp_path / "cache")
     code = (
         "from rulecheck import native\n"
         "from rulecheck.physics.transient import start_step_loop, step_loop\n"
@@ -249,9 +257,7 @@ def test_check_transient_on_a_fresh_cache_builds_and_reports(tmp_path: Path) -> 
 
 @needs_compiler
 def test_a_torn_library_in_the_cache_is_built_again(tmp_path: Path) -> None:
-    env = {**os.environ, "RULECHECK_CACHE_DIR": str(tmp_path / "cache")}
-    env.pop("RULECHECK_KERNEL", None)
-    code = "from rulecheck.physics.transient import step_loop; print(step_loop())"
+    env, code = _kernel_env(tmp_path / "cache"), STEP_LOOP
     assert _fresh(env, code) == "compiled C"
     (built,) = (tmp_path / "cache").glob("moc_kernel-*.so")
     built.write_bytes(built.read_bytes()[:100])  # as a crash or a full disk would leave it
@@ -269,19 +275,16 @@ def test_a_folder_others_may_write_to_is_not_loaded_from(tmp_path: Path) -> None
     shared.chmod(0o777)
     spare_root = tmp_path / "tmp"
     spare_root.mkdir()
-    env = {**os.environ, "RULECHECK_CACHE_DIR": str(shared), "TMPDIR": str(spare_root)}
-    env.pop("RULECHECK_KERNEL", None)
-    code = "from rulecheck.physics.transient import step_loop; print(step_loop())"
-    assert _fresh(env, code) == "compiled C"
-    assert not list(shared.iterdir())
+    env = {**_kernel_env(shared), "TMPDIR": str(spare_root)}
+    assert _fresh(env, STEP_LOOP) == "compiled C"
+    assert not list(shared.glob("moc_kernel-*"))
     (spare,) = spare_root.iterdir()
     assert list(spare.glob("moc_kernel-*.so")) and spare.stat().st_mode & 0o077 == 0
 
 
 @needs_compiler
 def test_a_build_nobody_collects_is_stopped_and_removed_at_exit(tmp_path: Path) -> None:
-    env = {**os.environ, "RULECHECK_CACHE_DIR": str(tmp_path / "cache")}
-    env.pop("RULECHECK_KERNEL", None)
+    env = _kernel_env(tmp_path / "cache")
     code = "from rulecheck.physics.transient import start_step_loop; start_step_loop()"
     _fresh(env, code)
     assert [p.name for p in (tmp_path / "cache").iterdir()] == []
