@@ -114,22 +114,27 @@ def _abandon_pending() -> None:
             build.abandon()
 
 
-def _target(source: Path, command: list[str], folder: Path) -> Path:
+def _library_name(source: Path, command: list[str]) -> str:
+    """The cached library's file name: keyed by the source, the compiler command and flags,
+    and the platform."""
     parts = [source.read_bytes(), " ".join([*command, *FLAGS]).encode()]
     parts += [platform.machine().encode(), sys.platform.encode()]
     key = hashlib.sha256(b"\0".join(parts)).hexdigest()[:20]
-    return folder / f"{source.stem}-{key}{'.dll' if sys.platform == 'win32' else '.so'}"
+    return f"{source.stem}-{key}{'.dll' if sys.platform == 'win32' else '.so'}"
 
 
 def start_building(source: Path) -> None:
     """Start compiling ``source`` in the background when its library is not cached yet,
     so that the compiler runs on another core while this process does other work;
     :func:`load_library` collects it. Does nothing when there is no compiler."""
-    command = compiler()
-    if command is None or source in _PENDING:
+    if source in _PENDING:
         return
+    command = compiler()
+    if command is None:
+        return
+    name = _library_name(source, command)
     for folder in cache_dirs():
-        target = _target(source, command, folder)
+        target = folder / name
         try:
             if not target.exists():
                 _PENDING[source] = _Build(command, source, target)
@@ -149,9 +154,9 @@ def load_library(source: Path) -> tuple[ctypes.CDLL | None, str | None]:
         complaint = pending.finish()
         if complaint is not None:
             return None, f"the C kernel did not compile: {complaint}"
-    reason = "no writable cache folder"
+    reason, name = "no writable cache folder", _library_name(source, command)
     for folder in cache_dirs():
-        target = _target(source, command, folder)
+        target = folder / name
         try:
             _private_folder(folder)
             if target.exists() and _mine(target):

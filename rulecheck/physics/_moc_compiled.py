@@ -63,11 +63,15 @@ def _bind(library: ctypes.CDLL) -> ctypes.CDLL:
     return library
 
 
+def _numpy_asked() -> bool:
+    return os.environ.get("RULECHECK_KERNEL", "").lower() == "numpy"
+
+
 def load() -> ctypes.CDLL | None:
     """The compiled kernel (built on first use), or None: then :func:`reason` says why."""
     if not _Loaded.tried:
         _Loaded.tried = True
-        if os.environ.get("RULECHECK_KERNEL", "").lower() == "numpy":
+        if _numpy_asked():
             _Loaded.reason = "RULECHECK_KERNEL=numpy"
         else:
             library, _Loaded.reason = load_library(SOURCE)
@@ -80,7 +84,7 @@ def load() -> ctypes.CDLL | None:
 
 def start() -> None:
     """Start building the kernel in the background (see :func:`rulecheck.native.start_building`)."""
-    if not _Loaded.tried and os.environ.get("RULECHECK_KERNEL", "").lower() != "numpy":
+    if not _Loaded.tried and not _numpy_asked():
         start_building(SOURCE)
 
 

@@ -383,8 +383,8 @@ def _run(
                 "H": H,
                 "Q": Q,
                 "C": C,
-                "b2": np.concatenate((grid.Bm, grid.Bp)),
-                "r2": np.concatenate((grid.Rm, grid.Rp)),
+                "b2": interior.b2,
+                "r2": interior.r2,
                 "inv2b": grid.inv2B,
                 "end_cidx": end_cidx,
                 "end_qidx": end_qidx,
@@ -441,7 +441,8 @@ def _run(
             last,
             progress,
         )
-    for k in range(1, last + 1 if kernel is None else 1):
+    numpy_steps = range(1, last + 1) if kernel is None else range(0)  # else: the kernel ran them
+    for k in numpy_steps:
         interior()  # C+, C- and interior sections (pipe ends are overwritten below)
         # Nodes: H = S_C / S_B, then roots, valves, arresters, cavities.
         C.take(end_cidx, out=cend)

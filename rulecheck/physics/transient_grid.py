@@ -316,8 +316,9 @@ class InteriorUpdate:
         self.qu, self.qd, self.cp, self.cm = q[:n], q[n:], c[:n], c[n:]
         # q[1 : 2n-1] is (Qu[1:], Qd[:-1]): both characteristics' flows in one slice.
         self._q2 = q[1 : 2 * n - 1]
-        self._b2 = np.concatenate((grid.Bm, grid.Bp))
-        self._r2 = np.concatenate((grid.Rm, grid.Rp))
+        # (Bm, Bp) and (Rm, Rp) stacked like q[1 : 2n-1]; the compiled loop reads them too
+        self.b2 = np.concatenate((grid.Bm, grid.Bp))
+        self.r2 = np.concatenate((grid.Rm, grid.Rp))
         self._w = np.empty(2 * n - 2)
         self._wm, self._wp = self._w[: n - 1], self._w[n - 1 :]
         self._h_lo, self._h_hi = head[:-1], head[1:]
@@ -327,8 +328,8 @@ class InteriorUpdate:
     def __call__(self) -> None:
         w, q2 = self._w, self._q2
         np.abs(q2, out=w)
-        w *= self._r2
-        np.subtract(self._b2, w, out=w)
+        w *= self.r2
+        np.subtract(self.b2, w, out=w)
         w *= q2  # (Qu (B - R|Qu|))[1:] then (Qd (B - R|Qd|))[:-1]
         np.subtract(self._h_hi, self._wm, out=self._cm_lo)
         np.add(self._h_lo, self._wp, out=self._cp_hi)
