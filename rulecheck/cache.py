@@ -91,15 +91,10 @@ def cached(
 
 
 def _read(path: Path) -> tuple[Any] | None:
-    """The value stored at ``path``, or None: missing, unreadable, not a pickle, or (on
-    POSIX) a file that another user owns (the spare folder is in the shared temporary
-    directory)."""
-    try:
-        with path.open("rb") as stream:
-            if hasattr(os, "getuid") and os.fstat(stream.fileno()).st_uid != os.getuid():
-                return None
-            data = stream.read()
-    except OSError:
+    """The value stored at ``path``, or None: missing, unreadable, not a pickle, or not
+    the user's own (:func:`read_own`)."""
+    data = read_own(path)
+    if data is None:
         return None
     try:
         return (pickle.loads(data),)  # noqa: S301 - our own file in the user's own cache
@@ -107,8 +102,26 @@ def _read(path: Path) -> tuple[Any] | None:
         return None
 
 
+def read_own(path: Path) -> bytes | None:
+    """The bytes of ``path``, or None: missing, unreadable, or (on POSIX) a file that
+    another user owns (the spare folder is in the shared temporary directory)."""
+    try:
+        with path.open("rb") as stream:
+            if hasattr(os, "getuid") and os.fstat(stream.fileno()).st_uid != os.getuid():
+                return None
+            return stream.read()
+    except OSError:
+        return None
+
+
 def _write(path: Path, value: object) -> bool:
     """Store ``value`` at ``path`` (renamed into place); False when it cannot be written."""
+    return write_atomically(path, pickle.dumps(value, protocol=pickle.HIGHEST_PROTOCOL))
+
+
+def write_atomically(path: Path, data: bytes) -> bool:
+    """Write ``data`` to a temporary file beside ``path`` and rename it into place, so a
+    reader never sees half of it; False when it cannot be written."""
     import tempfile
 
     try:
@@ -118,7 +131,7 @@ def _write(path: Path, value: object) -> bool:
         return False
     try:
         with os.fdopen(handle, "wb") as stream:
-            pickle.dump(value, stream, protocol=pickle.HIGHEST_PROTOCOL)
+            stream.write(data)
         os.replace(temporary, path)
         return True
     except OSError:

@@ -19,6 +19,7 @@ import sys
 from collections.abc import Callable
 from typing import TYPE_CHECKING, NamedTuple, cast
 
+import rulecheck.cli.startup  # noqa: F401 - first of ours (see its docstring)
 from rulecheck import __version__
 from rulecheck.cli.common import (
     DEBUG_OPTION,
