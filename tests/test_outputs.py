@@ -158,13 +158,13 @@ def test_interrupt_mid_report_leaves_the_old_file_whole(
     assert cli("check", "--output", "report.txt", "plan.yaml")[0] == EXIT_FINDINGS
     old = (work / "report.txt").read_bytes()
 
-    def interrupted(console, *args, **kwargs):  # noqa: ANN001, ANN002, ANN003
+    def interrupted(stream, lines):  # noqa: ANN001
         for _ in range(2000):
-            console.print("a line of a long report that is being written")
-        console.file.flush()
+            stream.write("a line of a long report that is being written\n")
+        stream.flush()
         raise KeyboardInterrupt
 
-    monkeypatch.setattr(text_report, "render_check", interrupted)
+    monkeypatch.setattr(text_report, "write_plain", interrupted)
     rc, out, err = cli("check", "--output", "report.txt", "plan.yaml")
     assert rc == EXIT_INTERRUPTED and "Traceback" not in out + err
     assert (work / "report.txt").read_bytes() == old

@@ -18,6 +18,7 @@ from rulecheck.files import UnreadableFile, atomic_output
 from rulecheck.findings import SEVERITY_RANK, Finding
 from rulecheck.input.profiles import profile_ids
 from rulecheck.report.formats import FORMATS, CheckReport
+from rulecheck.report.terminal import surely_not_terminal
 
 if TYPE_CHECKING:  # rich is imported only by the text output
     from rich.console import Console
@@ -217,9 +218,15 @@ def write_report(args: argparse.Namespace, console: Console, report: CheckReport
     (UTF-8, ``\\n`` line ends; colour only on a terminal, never in a file)."""
     write = FORMATS[args.format].write
     if args.output is None:
-        # only the text output uses escape codes (formats.py): the others never ask rich
-        colour = args.format == "text" and console.is_terminal
-        write(report, sys.stdout, colour and console.color_system is not None)
+        # only the text output uses escape codes (formats.py): the others never ask rich,
+        # nor does text to a pipe or a file (report/terminal.py)
+        colour = (
+            args.format == "text"
+            and not surely_not_terminal(sys.stdout)
+            and console.is_terminal
+            and console.color_system is not None
+        )
+        write(report, sys.stdout, colour)
         return
     with atomic_output(args.output) as handle:
         write(report, handle, False)

@@ -32,9 +32,16 @@ class CheckReport:
 
 
 def _text(report: CheckReport, stream: TextIO, colour: bool) -> None:
-    from rich.console import Console
+    from rulecheck.report.terminal import plain_width
+    from rulecheck.report.text import check_lines, print_rich, write_plain
 
-    from rulecheck.report.text import render_check
+    results = [(p, f) for p, _, f in report.results]
+    failed = [e.problems[0].path for e in report.errors]
+    width = None if colour else plain_width(stream)
+    if width is not None:  # no colour, and the width known without rich
+        write_plain(stream, check_lines(results, failed, width, report.hidden or 0, report.unread))
+        return
+    from rich.console import Console
 
     console = Console(
         file=stream,
@@ -42,13 +49,9 @@ def _text(report: CheckReport, stream: TextIO, colour: bool) -> None:
         color_system="auto" if colour else None,
         force_terminal=colour or None,
     )
-    render_check(
-        console,
-        [(p, f) for p, _, f in report.results],
-        [e.problems[0].path for e in report.errors],
-        report.hidden or 0,
-        report.unread,
-    )
+    console.width = console.width or 80  # rich prints nothing at width 0 (COLUMNS=0)
+    lines = check_lines(results, failed, console.width, report.hidden or 0, report.unread)
+    print_rich(console, lines)
 
 
 def _lines(report: CheckReport, stream: TextIO, colour: bool) -> None:

@@ -1,19 +1,23 @@
 """The terminal report (rich): findings grouped by file, then element, then the sources,
 the summary and the caution.
 
+The report is made as lines of styled pieces (:func:`check_lines`), then printed through
+rich (:func:`print_rich`, colour) or written as plain text (:func:`write_plain`, no colour:
+rich is not imported, some 30 ms of start-up).
+
 Each element is a heading once (its id and line); under it each finding is a block: the
 severity word, the rule id and the source number ``[n]``, then the message wrapped to the
 width with a hanging indent, then the fix on its own line after our marker ``⇢``. A waived
 finding is dim throughout (never in its severity colour) with the waiver's reason. The
-sources are listed once, numbered, after the findings. Wrapping is at spaces only (rich
-word wrap); a word longer than the line is not cut but left to overflow. The one-line form
-for editors and grep is :func:`render_lines`.
+sources are listed once, numbered, after the findings. Wrapping is ours, at spaces only;
+a word longer than the line is not cut but left to overflow (a path is never folded). The
+one-line form for editors and grep is :func:`render_lines`.
 """
 
 from __future__ import annotations
 
 from collections import Counter
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, TextIO
 
 from rulecheck.errors import visible
 from rulecheck.findings import SEVERITIES, Finding
@@ -33,39 +37,82 @@ FIX_MARK = "⇢"
 _INDENT = 4  # the message under its severity line
 
 
+#: one piece of an output line: its text and its rich style ("" for none)
+Piece = tuple[str, str]
+#: one output line, as pieces (an empty list is an empty line)
+Line = list[Piece]
+
+
 def summary_counts(findings: list[Finding]) -> Counter[str]:
     return Counter(f.severity for f in findings if f.waived is None)
 
 
-def _words(console: Console, text: str, indent: int, style: str = "", lead: str = "") -> None:
-    """``lead`` + ``text`` wrapped at spaces to the console width, ``indent`` columns in;
-    lines after the first hang under the text, past the ``lead``."""
-    from rich.text import Text
-
+def _words(text: str, width: int, indent: int, style: str = "", lead: str = "") -> list[Line]:
+    """``lead`` + ``text`` wrapped at spaces to ``width``, ``indent`` columns in; lines
+    after the first hang under the text, past the ``lead``."""
     hang = indent + len(lead)
-    for k, line in enumerate(_wrap(visible(text), max(console.width - hang, 20))):
-        start = " " * indent + lead if k == 0 else " " * hang
-        console.print(Text(start + line, style=style), no_wrap=True, crop=False)
+    return [
+        [((" " * indent + lead if k == 0 else " " * hang) + line, style)]
+        for k, line in enumerate(_wrap(visible(text), max(width - hang, 20)))
+    ]
 
 
-def _block(console: Console, f: Finding, number: int) -> None:
-    from rich.text import Text
-
+def _block(f: Finding, number: int, width: int) -> list[Line]:
     waived = f.waived is not None
-    head = Text("  ")
-    head.append(f.severity, style="dim" if waived else _STYLE[f.severity])
-    head.append("  ")
-    head.append(visible(f.rule), style="dim" if waived else "bold")
-    head.append(f"  [{number}]", style="dim")
+    head: Line = [
+        ("  ", ""),
+        (f.severity, "dim" if waived else _STYLE[f.severity]),
+        ("  ", ""),
+        (visible(f.rule), "dim" if waived else "bold"),
+        (f"  [{number}]", "dim"),
+    ]
     if waived:
-        head.append("  waived", style="dim italic")
-    console.print(head, overflow="ignore", crop=False)
+        head.append(("  waived", "dim italic"))
     dim = "dim" if waived else ""
-    _words(console, f.message, _INDENT, dim)
+    lines = [head, *_words(f.message, width, _INDENT, dim)]
     if f.fix:
-        _words(console, f.fix, _INDENT, dim, lead=f"{FIX_MARK} ")
+        lines += _words(f.fix, width, _INDENT, dim, lead=f"{FIX_MARK} ")
     if waived:
-        _words(console, f.waived or "", _INDENT, "dim italic", lead="waived: ")
+        lines += _words(f.waived or "", width, _INDENT, "dim italic", lead="waived: ")
+    return lines
+
+
+def check_lines(
+    results: list[tuple[str, list[Finding]]],
+    failed: list[str],
+    width: int,
+    hidden: int = 0,
+    unread: int = 0,
+) -> list[Line]:
+    """The grouped findings, the sources, then the summary and the caution, wrapped to
+    ``width``; ``unread`` of the ``failed`` files could not be read."""
+    every: list[Finding] = []
+    sources: dict[str, int] = {}
+    out: list[Line] = []
+    for path, findings in results:
+        every.extend(findings)
+        if not findings:
+            continue
+        out.append([(visible(path), "bold underline")])
+        elements: dict[str, list[Finding]] = {}
+        for f in sorted(findings, key=Finding.sort_key):
+            elements.setdefault(f.element, []).append(f)
+        # elements in file order (the line of their first finding)
+        for element, these in sorted(elements.items(), key=lambda kv: kv[1][0].sort_key()):
+            out.append([(visible(element), "bold"), (f"  line {these[0].line}", "dim")])
+            for f in these:
+                out += _block(f, sources.setdefault(f.source, len(sources) + 1), width)
+        out.append([])
+    if sources:
+        out.append([("Sources", "bold")])
+        for source, number in sources.items():
+            out += _hanging(f"[{number}]", source, width)
+        out.append([])
+    files = len(results) + len(failed) - unread
+    summary = summary_line(every, files, hidden, len(failed) - unread, unread)
+    out += _words(summary, width, 0, "bold")
+    out += _words(f"Caution: {CAUTION}", width, 0)
+    return out
 
 
 def render_check(
@@ -75,36 +122,30 @@ def render_check(
     hidden: int = 0,
     unread: int = 0,
 ) -> None:
-    """The grouped findings, the sources, then the summary and the caution; ``unread`` of
-    the ``failed`` files could not be read."""
+    """:func:`check_lines` at the console's width, printed through rich (styles)."""
+    print_rich(console, check_lines(results, failed, console.width, hidden, unread))
+
+
+def print_rich(console: Console, lines: list[Line]) -> None:
+    """Each line through rich, as it is: never wrapped again, cut or folded (a word longer
+    than the line overflows it)."""
     from rich.text import Text
 
-    every: list[Finding] = []
-    sources: dict[str, int] = {}
-    for path, findings in results:
-        every.extend(findings)
-        if not findings:
+    for line in lines:
+        if not line:
+            console.print()
             continue
-        console.print(Text(visible(path), style="bold underline"), overflow="fold")
-        elements: dict[str, list[Finding]] = {}
-        for f in sorted(findings, key=Finding.sort_key):
-            elements.setdefault(f.element, []).append(f)
-        # elements in file order (the line of their first finding)
-        for element, these in sorted(elements.items(), key=lambda kv: kv[1][0].sort_key()):
-            heading = Text(visible(element), style="bold")
-            heading.append(f"  line {these[0].line}", style="dim")
-            console.print(heading, overflow="ignore", crop=False)
-            for f in these:
-                _block(console, f, sources.setdefault(f.source, len(sources) + 1))
-        console.print()
-    if sources:
-        console.print(Text("Sources", style="bold"))
-        for source, number in sources.items():
-            _hanging(console, f"[{number}]", source)
-        console.print()
-    files = len(results) + len(failed) - unread
-    _words(console, summary_line(every, files, hidden, len(failed) - unread, unread), 0, "bold")
-    _words(console, f"Caution: {CAUTION}", 0)
+        (first, style), *rest = line
+        text = Text(first, style=style)
+        for piece, piece_style in rest:
+            text.append(piece, style=piece_style)
+        console.print(text, overflow="ignore", crop=False)
+
+
+def write_plain(stream: TextIO, lines: list[Line]) -> None:
+    """Each line's text without styles: the bytes :func:`print_rich` writes with colour
+    off (``tests/test_text_plain.py``), without importing rich."""
+    stream.write("".join("".join(piece for piece, _ in line) + "\n" for line in lines))
 
 
 def summary_line(every: list[Finding], files: int, hidden: int, bad: int, unread: int) -> str:
@@ -125,15 +166,13 @@ def summary_line(every: list[Finding], files: int, hidden: int, bad: int, unread
     return line
 
 
-def _hanging(console: Console, label: str, text: str) -> None:
+def _hanging(label: str, text: str, width: int) -> list[Line]:
     """``  [n] text`` with the text's later lines under its first word."""
-    from rich.text import Text
-
     indent = len(label) + 3
-    for k, line in enumerate(_wrap(visible(text), max(console.width - indent, 20))):
-        out = Text(f"  {label} ", style="dim") if k == 0 else Text(" " * indent)
-        out.append(line)
-        console.print(out, no_wrap=True, crop=False)
+    return [
+        [(f"  {label} ", "dim") if k == 0 else (" " * indent, ""), (line, "")]
+        for k, line in enumerate(_wrap(visible(text), max(width - indent, 20)))
+    ]
 
 
 def _wrap(text: str, width: int) -> list[str]:
