@@ -32,6 +32,7 @@ LAYERS: list[tuple[str, tuple[str, ...]]] = [
             "rulecheck.resources",
             "rulecheck.native",
             "rulecheck.cache",
+            "rulecheck.record_methods",
         ),
     ),
     ("physics", ("rulecheck.physics",)),

@@ -7,7 +7,6 @@ finding about that rule, and the run goes on.
 
 from __future__ import annotations
 
-import traceback
 from collections.abc import Iterable
 from dataclasses import replace
 from typing import Any
@@ -38,6 +37,8 @@ def _guarded(check: Any, ctx: RuleContext) -> Iterable[Finding]:
     try:
         return list(check(ctx))
     except Exception as exc:  # noqa: BLE001 - a broken rule must not stop the run
+        import traceback
+
         last = traceback.extract_tb(exc.__traceback__)[-1]
         where = f"{last.filename.rsplit('/', 1)[-1]}:{last.lineno}"
         return [

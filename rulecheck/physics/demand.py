@@ -4,11 +4,14 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from functools import cache
+from typing import TYPE_CHECKING
 
 import numpy as np
-from numpy.typing import ArrayLike
 
 from rulecheck.resources import read_yaml
+
+if TYPE_CHECKING:  # numpy.typing costs start-up; the names are for annotations
+    from numpy.typing import ArrayLike
 
 US_GALLON = 231 * 0.0254**3  # [m^3], 231 in^3 exactly [S: NIST SP 811]
 GPM = US_GALLON / 60.0  # 1 gpm = 6.30901964e-5 m^3/s [S: NIST SP 811]

@@ -3,9 +3,12 @@
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
 import numpy as np
-from numpy.typing import ArrayLike
+
+if TYPE_CHECKING:  # numpy.typing costs start-up; the names are for annotations
+    from numpy.typing import ArrayLike
 
 LAMINAR_LIMIT = 2000.0  # Re below which flow is taken as laminar [CP]
 _TOLERANCE = 1e-12  # relative change of 1/sqrt(f) that ends the Newton iteration

@@ -4,11 +4,14 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
+from typing import TYPE_CHECKING
 
 import numpy as np
-from numpy.typing import ArrayLike
 
 from rulecheck.physics.constants import STANDARD_ATMOSPHERE
+
+if TYPE_CHECKING:  # numpy.typing costs start-up; the names are for annotations
+    from numpy.typing import ArrayLike
 
 
 def _path(

@@ -13,8 +13,12 @@ last bit, the one :func:`~rulecheck.physics.surge.critical_time`,
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
-from numpy.typing import ArrayLike
+
+if TYPE_CHECKING:  # numpy.typing costs start-up; the names are for annotations
+    from numpy.typing import ArrayLike
 
 
 def path_surges(

@@ -2,8 +2,12 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
-from numpy.typing import ArrayLike
+
+if TYPE_CHECKING:  # numpy.typing costs start-up; the names are for annotations
+    from numpy.typing import ArrayLike
 
 ANCHORINGS = ("throughout", "upstream", "joints")
 
