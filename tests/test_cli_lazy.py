@@ -70,3 +70,54 @@ def test_check_imports_no_other_command() -> None:
     for other in ("explain", "simulate", "size", "catalog", "info"):
         assert f"'rulecheck.cli.{other}'" not in loaded
     assert "'rulecheck.cli.check'" in loaded
+
+
+ARGVS = [
+    ["check", "--help"],
+    ["--debug", "check", "--help"],
+    ["check"],
+    ["check", "--bogus", "a.yaml"],
+    ["check", "--format", "nope", "a.yaml"],
+    ["check", "a.yaml", "analyze"],
+    ["--he", "check"],
+    ["--help", "check"],
+    ["--version", "check"],
+    ["--bogus", "check", "a.yaml"],
+    ["size", "--help"],
+    ["explain"],
+]
+
+
+@pytest.mark.parametrize("argv", ARGVS, ids=" ".join)
+def test_only_the_named_command_gives_the_same_output(
+    argv: list[str], capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch
+) -> None:
+    """A command line that names its command builds no other sub-parser; what it prints
+    (help, usage errors, the version) is what the parser with every command prints."""
+
+    def outcome() -> tuple[object, str, str]:
+        try:
+            rc: object = main(argv)
+        except SystemExit as exc:  # --help, --version
+            rc = ("exit", exc.code)
+        out, err = capsys.readouterr()
+        return rc, out, err
+
+    capsys.readouterr()
+    lean = outcome()
+    import rulecheck.cli as cli
+
+    monkeypatch.setattr(cli, "names_only", lambda argv, command: False)
+    assert outcome() == lean
+    assert lean[1] + lean[2]  # it said something
+
+
+def test_names_only() -> None:
+    from rulecheck.cli import names_only
+
+    assert names_only(["check", "a.yaml"], "check")
+    assert names_only(["--debug", "check", "--help"], "check")
+    assert not names_only(["--help", "check"], "check")
+    assert not names_only(["--he", "check"], "check")
+    assert not names_only(["--version", "check"], "check")
+    assert not names_only(["chek"], None)
