@@ -19,7 +19,7 @@ import sys
 from collections.abc import Callable
 from typing import TYPE_CHECKING, NamedTuple, cast
 
-import rulecheck.cli.startup  # noqa: F401 - first of ours (see its docstring)
+import rulecheck.cli.startup as startup  # first of ours (see its docstring)
 from rulecheck import __version__
 from rulecheck.cli.common import (
     DEBUG_OPTION,
@@ -204,11 +204,12 @@ def _run(argv: list[str]) -> int:
 
 
 def main_entry() -> None:
-    """Console-script entry point. Everything is frozen out of the garbage collector before
-    the interpreter exits, so that its last collection does not walk the whole heap once
-    more (some 30 ms of a small check; atexit handlers and buffered output are not
-    affected, ``benchmarks/README.md``)."""
-    status = main()
+    """Console-script entry point (and ``python -m rulecheck``). The command runs with room
+    on the Python stack (``startup.call_with_room``). Everything is frozen out of the
+    garbage collector before the interpreter exits, so that its last collection does not
+    walk the whole heap once more (some 30 ms of a small check; atexit handlers and
+    buffered output are not affected, ``benchmarks/README.md``)."""
+    status = startup.call_with_room(main)
     import gc
 
     gc.freeze()
