@@ -37,31 +37,27 @@ class Probe:
 METHODS = ("__init__", "__repr__", "__eq__", "__hash__", "__setattr__", "__delattr__")
 
 
-def _texts_plain_dataclasses_compiles() -> list[str]:
-    """The source texts ``dataclasses`` hands to ``exec`` for ``Probe``: one per method up
-    to Python 3.12, one for all of them from 3.13."""
-    texts: list[str] = []
+class _Recorder:
+    """An ``exec`` for :mod:`dataclasses` that notes each source text it is given."""
 
-    def recording(source: str, globals: object = None, locals: object = None, /) -> None:  # noqa: A002
-        texts.append(source)
+    def __init__(self) -> None:
+        self.texts: list[str] = []
+
+    def exec(self, source: str, globals: object = None, locals: object = None, /) -> None:  # noqa: A002
+        self.texts.append(source)
         builtins.exec(source, globals, locals)  # type: ignore[arg-type]
 
-    installed = dataclasses.__dict__.get("exec")  # a table the command line installed
-    dataclasses.exec = recording  # type: ignore[attr-defined]
-    try:
-        exec(RECORD, {})  # noqa: S102 - the test's own class text
-    finally:
-        if installed is None:
-            del dataclasses.exec  # type: ignore[attr-defined]
-        else:
-            dataclasses.exec = installed  # type: ignore[attr-defined]
-    return texts
+
+@pytest.fixture
+def texts(monkeypatch: pytest.MonkeyPatch) -> int:
+    """How many source texts plain ``dataclasses`` compiles for ``Probe``: one per method
+    up to Python 3.12, one for all of them from 3.13."""
+    recorder = _Recorder()
+    _define(recorder, monkeypatch)
+    return len(recorder.texts)
 
 
-TEXTS = len(_texts_plain_dataclasses_compiles())
-
-
-def _define(table: MethodTable | None, monkeypatch: pytest.MonkeyPatch) -> type:
+def _define(table: MethodTable | _Recorder | None, monkeypatch: pytest.MonkeyPatch) -> type:
     """``Probe`` defined afresh, through ``table`` (or plain ``dataclasses`` when None)."""
     with monkeypatch.context() as patch:
         if table is None:
@@ -74,12 +70,12 @@ def _define(table: MethodTable | None, monkeypatch: pytest.MonkeyPatch) -> type:
 
 
 def test_methods_have_the_code_dataclasses_compiles(
-    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, texts: int
 ) -> None:
     plain = _define(None, monkeypatch)
     table = MethodTable(tmp_path / "t.marshal")
     first = _define(table, monkeypatch)  # compiled by the table, kept
-    assert table.grew and len(table.codes) == TEXTS
+    assert table.grew and len(table.codes) == texts
     again = _define(MethodTable(tmp_path / "t.marshal"), monkeypatch)  # empty: not saved
     assert table.save()
     read_back = MethodTable(tmp_path / "t.marshal")
@@ -116,7 +112,7 @@ def test_saved_only_when_it_grew(tmp_path: Path, monkeypatch: pytest.MonkeyPatch
     ids=["empty", "garbage", "a list", "not code"],
 )
 def test_unusable_file_is_ignored_and_written_again(
-    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, content: bytes
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, content: bytes, texts: int
 ) -> None:
     path = tmp_path / "t.marshal"
     path.write_bytes(content)
@@ -124,7 +120,7 @@ def test_unusable_file_is_ignored_and_written_again(
     assert table.codes == {}
     _define(table, monkeypatch)
     assert table.save()
-    assert len(MethodTable(path).codes) == TEXTS
+    assert len(MethodTable(path).codes) == texts
 
 
 def test_torn_file_is_ignored(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
@@ -147,18 +143,18 @@ def test_file_of_another_user_is_not_read(tmp_path: Path, monkeypatch: pytest.Mo
 
 
 def test_past_the_limit_only_this_runs_texts_are_kept(
-    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, texts: int
 ) -> None:
     path = tmp_path / "t.marshal"
     stale = {f"# stale {n}\n": compile("", "<string>", "exec") for n in range(5)}
     path.write_bytes(marshal.dumps(stale))
-    monkeypatch.setattr(record_methods, "LIMIT", TEXTS + 2)  # under the 5 stale + TEXTS
+    monkeypatch.setattr(record_methods, "LIMIT", texts + 2)  # under the 5 stale + texts
     table = MethodTable(path)
     _define(table, monkeypatch)
-    assert len(table.codes) == 5 + TEXTS
+    assert len(table.codes) == 5 + texts
     table.save()
     kept = MethodTable(path).codes
-    assert len(kept) == TEXTS and not any(t.startswith("# stale") for t in kept)
+    assert len(kept) == texts and not any(t.startswith("# stale") for t in kept)
 
 
 def test_install_once(monkeypatch: pytest.MonkeyPatch, tmp_path: Path) -> None:
